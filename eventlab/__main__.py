@@ -1,0 +1,5 @@
+import sys
+
+from eventlab.cli import main
+
+sys.exit(main())

@@ -1,0 +1,1 @@
+"""Sub-commands of the eventlab command line, one module each."""

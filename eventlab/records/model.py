@@ -1,0 +1,157 @@
+"""The in-memory event record: what a COMTRADE file holds, in SI units.
+
+Field names follow IEEE C37.111-2013 clause 6 (the configuration file) where
+the standard names a field (``ph``, ``ccbm``, ``uu``, ``a``, ``b``, ``skew``,
+``primary``, ``secondary``, ``PS``, ``y``, ``samp``, ``endsamp``, ``timemult``,
+``time_code``, ``local_code``, ``tmq_code``, ``leapsec``).
+
+A :class:`Record` is immutable: its dataclasses are frozen and its arrays are
+read-only views.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from datetime import datetime
+from typing import Literal
+
+import numpy as np
+
+ValueKind = Literal["primary", "secondary"]
+DataFormat = Literal["ASCII", "BINARY", "BINARY32", "FLOAT32"]
+
+
+def frozen_array(values, dtype) -> np.ndarray:
+    """Return ``values`` as a read-only numpy array of ``dtype``."""
+    arr = np.array(values, dtype=dtype, copy=True)
+    arr.setflags(write=False)
+    return arr
+
+
+@dataclass(frozen=True)
+class AnalogChannel:
+    """One analog channel (C37.111-2013 clause 6.4).
+
+    ``values`` are float64 in the kind the record was read as (``Record.values``):
+    primary or secondary units, missing samples as NaN.
+    """
+
+    index: int                 # An, 1-based
+    name: str                  # ch_id
+    phase: str                 # ph
+    circuit: str               # ccbm
+    unit: str                  # uu
+    a: float                   # multiplier
+    b: float                   # offset adder
+    skew_s: float              # skew [s]
+    min: float                 # min (raw integer range)
+    max: float                 # max
+    primary: float             # primary ratio factor
+    secondary: float           # secondary ratio factor
+    ps: str                    # 'P' or 'S': which side a*x+b gives
+    values: np.ndarray = field(repr=False, compare=False)
+
+    @property
+    def ratio(self) -> float:
+        """Instrument transformer ratio primary/secondary (1.0 when unknown)."""
+        if self.secondary == 0.0 or not np.isfinite(self.secondary):
+            return 1.0
+        return self.primary / self.secondary
+
+
+@dataclass(frozen=True)
+class StatusChannel:
+    """One status (digital) channel (C37.111-2013 clause 6.5)."""
+
+    index: int                 # Dn, 1-based
+    name: str                  # ch_id
+    phase: str                 # ph
+    circuit: str               # ccbm
+    normal: int                # y: normal state 0 or 1
+    values: np.ndarray = field(repr=False, compare=False)  # uint8, 0/1
+
+
+@dataclass(frozen=True)
+class RateSegment:
+    """One sample-rate segment (clause 6.7): ``samp`` [Hz] up to sample ``endsamp``."""
+
+    samp_hz: float
+    endsamp: int
+
+
+@dataclass(frozen=True)
+class Record:
+    """An event record read from COMTRADE, or made to be written as one.
+
+    ``time`` is float64 seconds from the first sample (C37.111 data-file time
+    stamps times ``timemult``, or the sample-rate segments).  ``start`` and
+    ``trigger`` are the first-sample and trigger date/times of clause 6.10;
+    datetimes keep microseconds, and the sub-microsecond part of a nanosecond
+    time stamp is kept in ``start_ns`` / ``trigger_ns`` (0..999).
+    """
+
+    station: str               # station_name
+    device: str                # rec_dev_id
+    revision: int              # rev_year: 1991, 1999 or 2013
+    data_format: str           # ft
+    frequency_hz: float        # lf
+    rates: tuple[RateSegment, ...]
+    start: datetime | None
+    trigger: datetime | None
+    time: np.ndarray = field(repr=False, compare=False)
+    analog: tuple[AnalogChannel, ...] = ()
+    status: tuple[StatusChannel, ...] = ()
+    values: str = "primary"    # which kind the analog values are in
+    timemult: float = 1.0
+    time_code: str = ""        # 2013: time code, e.g. "+5h30" or "-4"
+    local_code: str = ""       # 2013: local code
+    tmq_code: str = ""         # 2013: time quality code (hex digit)
+    leapsec: int = 0           # 2013: leap second indicator 0..3
+    start_ns: int = 0
+    trigger_ns: int = 0
+    header_text: str | None = None   # .hdr content, as text
+    info_text: str | None = None     # .inf content, as text
+    source: str | None = None        # where the record was read from
+
+    # ---- look-up ------------------------------------------------------
+    def analog_by_name(self, name: str) -> AnalogChannel:
+        """The analog channel called ``name`` (exact, then case-insensitive)."""
+        return _by_name(self.analog, name, "analog")
+
+    def status_by_name(self, name: str) -> StatusChannel:
+        """The status channel called ``name`` (exact, then case-insensitive)."""
+        return _by_name(self.status, name, "status")
+
+    @property
+    def n_samples(self) -> int:
+        return int(self.time.shape[0])
+
+    @property
+    def duration_s(self) -> float:
+        return float(self.time[-1] - self.time[0]) if self.n_samples else 0.0
+
+    @property
+    def sample_rate_hz(self) -> float:
+        """The highest declared sample rate, or one estimated from ``time``."""
+        rates = [r.samp_hz for r in self.rates if r.samp_hz > 0]
+        if rates:
+            return float(max(rates))
+        if self.n_samples > 1:
+            dt = np.median(np.diff(self.time))
+            if dt > 0:
+                return float(1.0 / dt)
+        return 0.0
+
+
+def _by_name(channels, name: str, kind: str):
+    for ch in channels:
+        if ch.name == name:
+            return ch
+    low = name.strip().casefold()
+    for ch in channels:
+        if ch.name.strip().casefold() == low:
+            return ch
+    from eventlab.errors import ChannelMapError
+
+    names = ", ".join(ch.name for ch in channels) or "none"
+    raise ChannelMapError(f"no {kind} channel named {name!r}; the record has: {names}")
