@@ -1,0 +1,120 @@
+"""What the locate layer takes in: one terminal's phasors, frozen.
+
+The signal chain (or a test, or the fault solver) fills a
+:class:`TerminalPhasors` per line end; nothing here reads files.
+
+Conventions (DEVELOPERS.md, "Conventions"): complex RMS phasors in primary
+volts (line-to-ground) and amperes, phase order A B C, current positive from
+the bus into the line.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field, replace
+from datetime import datetime, timedelta
+
+import numpy as np
+
+from eventlab.errors import SignalError
+from eventlab.faulttypes import check_fault_type
+
+
+def _phasor3(value, name: str) -> np.ndarray:
+    arr = np.array(value, dtype=complex, copy=True).reshape(-1)
+    if arr.shape != (3,):
+        raise SignalError(f"TerminalPhasors.{name}: expected 3 complex phasors (A, B, C), "
+                          f"got shape {np.shape(value)}")
+    if not np.all(np.isfinite(arr)):
+        raise SignalError(f"TerminalPhasors.{name}: phasors must be finite, got {arr}")
+    arr.setflags(write=False)
+    return arr
+
+
+@dataclass(frozen=True)
+class TerminalPhasors:
+    """Pre-fault and fault-window phasors of one line terminal.
+
+    Parameters
+    ----------
+    terminal_id : str or None
+        Model terminal id this end belongs to; ``None`` to pair by ``station``.
+    station : str
+        Station name (COMTRADE ``station_name``), used for pairing.
+    v_pre, i_pre : complex array, shape (3,)
+        Pre-fault phase-to-ground voltages [V] and currents into the line [A].
+    v_fault, i_fault : complex array, shape (3,)
+        Fault-window phasors [V], [A].
+    frequency_hz : float
+        Power-system frequency [Hz].
+    fault_type : str
+        Fault type code (``AG`` ... ``ABC``), see :mod:`eventlab.faulttypes`.
+    inception_s : float, optional
+        Fault inception, record time [s].
+    phasor_time_s : float, optional
+        Record time [s] all four phasor sets refer to: a signal is
+        ``x(t) = sqrt(2) Re(X exp(j w (t - phasor_time_s)))``.  The pre-fault
+        phasors must be referred to the same instant (rotated by ``w dt``), so
+        that ``i_fault - i_pre`` is the superimposed current.
+    record_start : datetime, optional
+        Absolute time of the record's first sample (C37.111 ``start``).
+    samples_per_cycle : int, optional
+        Sampling rate of the record in samples per cycle (to state offsets in samples).
+    i_parallel_residual : complex, optional
+        Residual current ``3 I0`` of a parallel circuit [A], for mutual
+        coupling compensation.
+    """
+
+    terminal_id: str | None
+    station: str
+    v_pre: np.ndarray
+    i_pre: np.ndarray
+    v_fault: np.ndarray
+    i_fault: np.ndarray
+    frequency_hz: float
+    fault_type: str
+    inception_s: float | None = None
+    phasor_time_s: float | None = None
+    record_start: datetime | None = None
+    samples_per_cycle: int | None = None
+    i_parallel_residual: complex | None = None
+    window_start_s: float | None = field(default=None, compare=False)
+
+    def __post_init__(self) -> None:
+        for name in ("v_pre", "i_pre", "v_fault", "i_fault"):
+            object.__setattr__(self, name, _phasor3(getattr(self, name), name))
+        try:
+            code = check_fault_type(self.fault_type)
+        except ValueError as exc:
+            raise SignalError(f"TerminalPhasors.fault_type: {exc}") from None
+        object.__setattr__(self, "fault_type", code)
+        f = float(self.frequency_hz)
+        if not (f > 0 and np.isfinite(f)):
+            raise SignalError(f"TerminalPhasors.frequency_hz: expected a positive frequency, got {f}")
+        object.__setattr__(self, "frequency_hz", f)
+
+    @property
+    def omega(self) -> float:
+        """Angular frequency [rad/s]."""
+        return 2.0 * np.pi * self.frequency_hz
+
+    @property
+    def i_superimposed(self) -> np.ndarray:
+        """Superimposed (fault minus pre-fault) currents [A]."""
+        return self.i_fault - self.i_pre
+
+    @property
+    def v_superimposed(self) -> np.ndarray:
+        """Superimposed voltages [V]."""
+        return self.v_fault - self.v_pre
+
+    def absolute_time(self, record_time_s: float | None) -> datetime | None:
+        """Absolute time of a record instant, or None when the record has no start time."""
+        if self.record_start is None or record_time_s is None:
+            return None
+        return self.record_start + timedelta(seconds=float(record_time_s))
+
+    def rotated(self, angle_rad: float) -> TerminalPhasors:
+        """The same end with every phasor multiplied by ``exp(j angle_rad)``."""
+        r = np.exp(1j * angle_rad)
+        return replace(self, v_pre=self.v_pre * r, i_pre=self.i_pre * r,
+                       v_fault=self.v_fault * r, i_fault=self.i_fault * r)
