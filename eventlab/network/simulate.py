@@ -1,0 +1,856 @@
+"""Time-domain simulation of a line fault, recorded as COMTRADE at each terminal.
+
+:func:`simulate` builds the three-phase circuit of a network model (sources
+as EMFs behind coupled R-L, every line as coupled R-L sections in the phase
+domain, optionally pi sections with shunt capacitance), switches the fault in
+at the chosen point on wave, trips the faulted line's breakers pole by pole
+at current zeros, and samples what a recorder at each terminal would see:
+line-side voltages and the currents into the line through VT and CT ratios,
+a relay trip output and the breaker auxiliary contacts.  The engine is
+:mod:`eventlab.network.emt` (Dommel's companion models, trapezoidal rule).
+
+:func:`write_simulation` writes one COMTRADE record per terminal through the
+record layer's writer, plus ``truth.json`` with what was simulated.
+
+Conventions
+-----------
+Fault resistances follow the fault solver: phase-to-ground ``r_fault_ohm``
+(in series with ``r_ground_ohm``); phase-to-phase ``r_fault_ohm`` in total
+between the two phases; two-phase-to-ground ``r_fault_ohm`` per phase to a
+common point and ``r_ground_ohm`` from it to ground; three-phase
+``r_fault_ohm`` per phase to a star point that is floating unless
+``r_ground_ohm > 0``.  A zero resistance is replaced by
+:data:`BOLTED_OHM` (the nodal solution needs a finite conductance; the
+effect on the fault currents is of the order of 1e-5 relative).
+
+Point on wave: ``inception_angle_deg`` is the phase of the local phase-A
+voltage ``v_a = sqrt(2) |V_a| sin(theta)`` at inception, so 0 deg is its
+rising zero crossing and 90 deg its positive peak (common practice, no
+source).
+"""
+
+from __future__ import annotations
+
+import json
+import math
+from collections.abc import Mapping
+from dataclasses import asdict, dataclass, field, replace
+from datetime import datetime
+from pathlib import Path
+from typing import Literal
+
+import numpy as np
+
+from eventlab.errors import ModelError
+from eventlab.faulttypes import NO_FAULT, check_fault_type, faulted_phases
+from eventlab.network.emt import (
+    GROUND,
+    Circuit,
+    CircuitBuilder,
+    Stepper,
+    element_current_index,
+    element_voltage_index,
+)
+from eventlab.network.emt_ct import CtSaturation, ct_secondary
+from eventlab.network.model import Line, LineSection, NetworkModel, Terminal
+from eventlab.network.perunit import voltage_zones
+from eventlab.records.build import make_record
+from eventlab.records.model import Record
+from eventlab.symmetrical import phase_matrix_from_sequence
+
+#: Resistance standing in for a bolted fault or a closed breaker pole [ohm].
+BOLTED_OHM = 1e-4
+#: Resistance from every node to ground, so that no node floats [ohm].
+LEAK_OHM = 1e7
+#: Default record start (made up; fixed so that generated files are reproducible).
+DEFAULT_START = datetime(2025, 3, 14, 2, 17, 5, 120000)
+
+LineModel = Literal["rl", "pi"]
+LINE_MODELS: tuple[str, ...] = ("rl", "pi")
+
+
+@dataclass(frozen=True)
+class LoadStep:
+    """A constant-impedance load switched in at a bus (no-fault records).
+
+    ``p_mw`` [MW] and ``q_mvar`` [Mvar] (lagging positive, three-phase) at the
+    bus nominal voltage; switched in at ``at_s`` [s].
+    """
+
+    bus: str
+    p_mw: float
+    q_mvar: float = 0.0
+    at_s: float = 0.1
+
+
+@dataclass(frozen=True)
+class SimulationSpec:
+    """What to simulate.
+
+    Parameters
+    ----------
+    line : str
+        The line that faults (and whose breakers trip).
+    fraction : float
+        Fault position from the line's ``from`` bus, 0..1 of its length.
+    type : str
+        Fault code (AG ... ABC) or ``"none"`` for a record without fault.
+    r_fault_ohm, r_ground_ohm : float
+        Fault resistances [ohm] (module Conventions).
+    inception_s : float
+        Fault inception [s] from the first sample.
+    inception_angle_deg : float, optional
+        Point on wave of the local phase-A voltage [deg] (module Notes); the
+        inception moves to the first such instant at or after ``inception_s``.
+    relay_time_s : float
+        Inception to the trip output (status channel ``TRIP``) [s].
+    clear_after_s : float, optional
+        Inception to the breaker open command completing [s]; each pole then
+        opens at its next current zero.  ``None``: the fault is not cleared.
+        ``clear_after_s - relay_time_s`` is the breaker time.
+    duration_s : float
+        Record length [s].
+    samples_per_cycle : int
+        Recorder rate, samples per nominal cycle.
+    steps_per_cycle : int
+        Minimum internal time steps per cycle (rounded up to a multiple of
+        ``samples_per_cycle``).
+    noise : float
+        Standard deviation of additive noise relative to the channel's rated
+        secondary value (VT: nominal phase voltage; CT: rated current) [-].
+    seed : int
+        Seed of the noise generator.
+    ct_saturation : CtSaturation, optional
+        CT core model, applied at the terminals named in ``ct_saturation_at``
+        (all terminals when empty).
+    evolve_to : str, optional
+        Fault code the fault becomes ``evolve_after_s`` [s] after inception.
+    reclose_after_s : float, optional
+        Dead time [s] from the last pole opening to the reclose of both ends.
+    permanent : bool
+        Whether the fault is still there at reclose (then the line trips again).
+    open_line_s : float, optional
+        No-fault switching: the line's breakers are ordered open at this time [s].
+    load_step : LoadStep, optional
+        No-fault load change.
+    line_model : {"rl", "pi"}, optional
+        Series R-L sections, or nominal pi sections with the line
+        capacitance.  Default: "pi" when the model gives capacitance, else "rl".
+    pi_segment_km : float, optional
+        Longest pi section [km] for ``"pi"``; default one pi per piece of
+        line between section joints and the fault point (the circuit the
+        fault solver uses).
+    ct_ratio : (float, float), optional
+        CT primary and secondary rating [A]; default 1200/5 at 60 Hz or
+        1200/1 at 50 Hz.
+    vt_ratio : (float, float), optional
+        VT primary and secondary line-to-line rating [V]; default the bus
+        voltage over 115 V (60 Hz) or 110 V (50 Hz).
+    start : datetime
+        Time stamp of the first sample.
+    """
+
+    line: str
+    fraction: float
+    type: str
+    r_fault_ohm: float = 0.0
+    r_ground_ohm: float = 0.0
+    inception_s: float = 0.1
+    inception_angle_deg: float | None = None
+    relay_time_s: float = 0.025
+    clear_after_s: float | None = 0.075
+    duration_s: float = 0.4
+    samples_per_cycle: int = 64
+    steps_per_cycle: int = 1024
+    noise: float = 0.0
+    seed: int = 0
+    ct_saturation: CtSaturation | None = None
+    ct_saturation_at: tuple[str, ...] = ()
+    evolve_to: str | None = None
+    evolve_after_s: float = 0.0
+    reclose_after_s: float | None = None
+    permanent: bool = True
+    open_line_s: float | None = None
+    load_step: LoadStep | None = None
+    line_model: LineModel | None = None
+    pi_segment_km: float | None = None
+    ct_ratio: tuple[float, float] | None = None
+    vt_ratio: tuple[float, float] | None = None
+    start: datetime = DEFAULT_START
+
+    def __post_init__(self) -> None:
+        t = str(self.type).strip()
+        canon = NO_FAULT if t.lower() == NO_FAULT else _fault_code("type", t)
+        object.__setattr__(self, "type", canon)
+        if self.evolve_to is not None:
+            object.__setattr__(self, "evolve_to", _fault_code("evolve_to", self.evolve_to))
+            if canon == NO_FAULT:
+                raise ValueError("evolve_to needs a fault type, not 'none'")
+        if self.r_ground_ohm and canon not in ("ABG", "BCG", "CAG", "ABC"):
+            raise ValueError(f"r_ground_ohm applies to ABG, BCG, CAG and ABC only, not {canon} "
+                             f"(put the whole resistance in r_fault_ohm)")
+        if not (0.0 <= float(self.fraction) <= 1.0):
+            raise ValueError(f"fraction must lie in [0, 1], got {self.fraction!r}")
+        for name in ("r_fault_ohm", "r_ground_ohm", "relay_time_s", "noise", "evolve_after_s"):
+            v = getattr(self, name)
+            if not (math.isfinite(v) and v >= 0):
+                raise ValueError(f"{name} must be a finite number >= 0, got {v!r}")
+        if self.pi_segment_km is not None and not (math.isfinite(self.pi_segment_km)
+                                                   and self.pi_segment_km > 0):
+            raise ValueError(f"pi_segment_km must be a positive number, got {self.pi_segment_km!r}")
+        for name in ("inception_s", "duration_s"):
+            v = getattr(self, name)
+            if not (math.isfinite(v) and v > 0):
+                raise ValueError(f"{name} must be a positive number, got {v!r}")
+        if self.inception_s >= self.duration_s:
+            raise ValueError(f"inception_s ({self.inception_s}) must be before the end of the "
+                             f"record (duration_s {self.duration_s})")
+        if self.clear_after_s is not None and not (self.clear_after_s >= self.relay_time_s):
+            raise ValueError(f"clear_after_s ({self.clear_after_s}) must be >= relay_time_s "
+                             f"({self.relay_time_s})")
+        if self.reclose_after_s is not None and not self.reclose_after_s > 0:
+            raise ValueError(f"reclose_after_s must be positive, got {self.reclose_after_s!r}")
+        if not (isinstance(self.samples_per_cycle, int) and 8 <= self.samples_per_cycle <= 1024):
+            raise ValueError(f"samples_per_cycle must be an integer in 8..1024, "
+                             f"got {self.samples_per_cycle!r}")
+        if not (isinstance(self.steps_per_cycle, int) and self.steps_per_cycle >= 64):
+            raise ValueError(f"steps_per_cycle must be an integer >= 64, got "
+                             f"{self.steps_per_cycle!r}")
+        if self.line_model is not None and self.line_model not in LINE_MODELS:
+            raise ValueError(f"line_model must be one of {', '.join(LINE_MODELS)}, "
+                             f"got {self.line_model!r}")
+        for name in ("ct_ratio", "vt_ratio"):
+            v = getattr(self, name)
+            if v is not None and (len(v) != 2 or not all(math.isfinite(x) and x > 0 for x in v)):
+                raise ValueError(f"{name} must be two positive numbers (primary, secondary), "
+                                 f"got {v!r}")
+
+
+def _fault_code(name: str, code: str) -> str:
+    try:
+        return check_fault_type(code)
+    except ValueError as exc:
+        raise ValueError(f"{name}: {exc}") from None
+
+
+@dataclass(frozen=True)
+class Truth:
+    """What was simulated: the answer a record analysis should find.
+
+    Times are [s] from the first sample of the records.
+    """
+
+    model: str
+    line: str
+    type: str
+    fraction: float
+    distance_km: float
+    r_fault_ohm: float
+    r_ground_ohm: float
+    inception_s: float | None
+    inception_angle_deg: float | None
+    trip_s: Mapping[str, tuple[float, ...]]
+    pole_open_s: Mapping[str, tuple[tuple[float | None, float | None, float | None], ...]]
+    reclose_s: float | None
+    clear_s: float | None
+    evolve_to: str | None
+    evolve_s: float | None
+    permanent: bool
+    frequency_hz: float
+    samples_per_cycle: int
+    steps_per_cycle: int
+    line_model: str
+    nearest_structure: str | None
+    stations: Mapping[str, str]
+    notes: str = ""
+
+    def to_dict(self) -> dict:
+        """JSON-ready mapping (angles in degrees, times in seconds)."""
+        d = asdict(self)
+        d["trip_s"] = {k: list(v) for k, v in self.trip_s.items()}
+        d["pole_open_s"] = {k: [list(x) for x in v] for k, v in self.pole_open_s.items()}
+        d["stations"] = dict(self.stations)
+        return d
+
+
+@dataclass(frozen=True)
+class SimulationResult:
+    """Records per terminal id and the truth of the event."""
+
+    records: Mapping[str, Record]
+    truth: Truth
+    terminals: Mapping[str, Terminal] = field(default_factory=dict, repr=False)
+
+
+# ----------------------------------------------------------------------------- circuit
+
+@dataclass(frozen=True)
+class _Layout:
+    circuit: Circuit
+    breakers: dict[str, str]          # terminal/breaker key -> branch name
+    line_end_nodes: dict[str, tuple[int, int, int]]
+    fault_groups: tuple[str, ...]     # r-branch groups of fault slot 1, 2
+    fault_ground: tuple[str, ...]     # their ground resistor groups ('' when none)
+    faulted_breakers: tuple[str, ...]  # breaker keys of the faulted line
+    leak_of: dict[int, str]           # node -> leak branch name
+    load_groups: tuple[str, ...]
+
+
+def _rl_of(z0: complex, z1: complex, omega: float) -> tuple[np.ndarray, np.ndarray]:
+    z = phase_matrix_from_sequence(z0, z1)
+    return np.real(z), np.imag(z) / omega
+
+
+def _c_of(c0_f: float, c1_f: float) -> np.ndarray:
+    return np.real(phase_matrix_from_sequence(c0_f, c1_f))
+
+
+def _split_sections(line: Line, at_km: float | None) -> list[list[tuple[float, LineSection]]]:
+    """The line's sections as pieces, cut at ``at_km``: [before, after] lists."""
+    before: list[tuple[float, LineSection]] = []
+    after: list[tuple[float, LineSection]] = []
+    pos = 0.0
+    for s in line.sections:
+        a, b = pos, pos + s.length_km
+        if at_km is None or at_km >= b:
+            before.append((s.length_km, s))
+        elif at_km <= a:
+            after.append((s.length_km, s))
+        else:
+            before.append((at_km - a, s))
+            after.append((b - at_km, s))
+        pos = b
+    return [before, after] if at_km is not None else [before]
+
+
+def _fault_slot(code: str, r_f: float, r_g: float) -> tuple[list[int], float, float | None]:
+    """Faulted phases, resistance per phase to the star point, star-to-ground (None: floating)."""
+    ph = list(faulted_phases(code))
+    rb = BOLTED_OHM
+    if len(ph) == 1:
+        return ph, max(r_f, rb), max(r_g, rb)
+    if len(ph) == 2 and not code.endswith("G"):
+        return ph, max(r_f / 2.0, rb), None
+    if len(ph) == 2:
+        return ph, max(r_f, rb), max(r_g, rb)
+    return ph, max(r_f, rb), (r_g if r_g > 0 else None)
+
+
+def _build(model: NetworkModel, spec: SimulationSpec, mode: str) -> _Layout:
+    f = model.system.frequency_hz
+    omega = 2.0 * math.pi * f
+    if model.transformers:
+        raise ModelError(f"{model.source_name}: simulate: transformers are not modelled in the "
+                         f"time-domain simulation; give the network behind each line as sources")
+    if any(ln.mutual is not None for ln in model.lines):
+        raise ModelError(f"{model.source_name}: simulate: zero-sequence mutual coupling between "
+                         f"lines is not modelled in the time-domain simulation")
+    fline = model.line(spec.line)
+    zones = voltage_zones(model)
+    cb = CircuitBuilder()
+    kv = {b.id: b.kv for b in model.buses}
+    for b in model.buses:
+        cb.bus(b.id)
+    # sources
+    for k, s in enumerate(model.sources):
+        if abs(s.z2_ohm - s.z1_ohm) > 1e-9 * abs(s.z1_ohm):
+            raise ModelError(f"{model.source_name}: simulate: source at {s.bus} has z2 != z1, "
+                             f"which a static R-L network cannot represent")
+        r, ll = _rl_of(s.z0_ohm, s.z1_ohm, omega)
+        ang = s.angle_rad + zones[s.bus].angle_rad
+        e_a = math.sqrt(2.0) * s.emf_pu * kv[s.bus] * 1e3 / math.sqrt(3.0)
+        emf = e_a * np.exp(1j * (ang + np.array([0.0, -2.0, 2.0]) * math.pi / 3.0))
+        cb.add_rl(f"src{k}.{s.bus}", cb.bus(s.bus), (GROUND,) * 3, r, ll, emf_v=emf)
+    breakers: dict[str, str] = {}
+    line_end: dict[str, tuple[int, int, int]] = {}
+    faulted_breakers: list[str] = []
+    fault_nodes = None
+    for ln in model.lines:
+        ends = {}
+        for bus in (ln.from_bus, ln.to_bus):
+            key = f"{ln.id}@{bus}"
+            nodes = cb.bus(f"{ln.id}.{bus}")
+            name = f"brk.{key}"
+            cb.add_r(name, cb.bus(bus), nodes, [BOLTED_OHM] * 3)
+            breakers[key] = name
+            line_end[key] = nodes
+            ends[bus] = nodes
+            if ln.id == fline.id:
+                faulted_breakers.append(key)
+        at_km = None
+        if ln.id == fline.id and spec.type != NO_FAULT:
+            at_km = spec.fraction * ln.length_km
+        parts = _split_sections(ln, at_km)
+        chain_start = ends[ln.from_bus]
+        for p_i, pieces in enumerate(parts):
+            last = p_i == len(parts) - 1
+            chain_end = ends[ln.to_bus] if last else cb.bus(f"{ln.id}.F")
+            if not last:
+                fault_nodes = chain_end
+            _chain(cb, f"{ln.id}.p{p_i}", chain_start, chain_end, pieces, spec, omega, mode)
+            chain_start = chain_end
+    fault_groups: list[str] = []
+    fault_ground: list[str] = []
+    if spec.type != NO_FAULT:
+        codes = [spec.type] + ([spec.evolve_to] if spec.evolve_to else [])
+        for k, code in enumerate(codes):
+            ph, r_ph, r_g = _fault_slot(code, spec.r_fault_ohm, spec.r_ground_ohm)
+            star = cb.node(f"fault{k}.N")
+            gname = f"fault{k}"
+            cb.add_r(gname, tuple(fault_nodes[i] for i in ph), (star,) * len(ph),
+                     [r_ph] * len(ph), closed=[False] * len(ph))
+            fault_groups.append(gname)
+            if r_g is not None:
+                cb.add_r(f"fault{k}.g", (star,), (GROUND,), [r_g], closed=[False])
+                fault_ground.append(f"fault{k}.g")
+            else:
+                fault_ground.append("")
+    load_groups: list[str] = []
+    if spec.load_step is not None:
+        ls = spec.load_step
+        if ls.bus not in kv:
+            raise ModelError(f"{model.source_name}: simulate: load_step bus {ls.bus!r} is not a bus "
+                             f"of the model")
+        v2 = (kv[ls.bus] * 1e3) ** 2
+        if ls.p_mw > 0:
+            r = v2 / (ls.p_mw * 1e6)
+            cb.add_r("load.p", cb.bus(ls.bus), (GROUND,) * 3, [r] * 3, closed=[False] * 3)
+            load_groups.append("load.p")
+        if ls.q_mvar > 0:
+            x = v2 / (ls.q_mvar * 1e6)
+            mid = cb.bus("load.q")
+            cb.add_r("load.q", cb.bus(ls.bus), mid, [BOLTED_OHM] * 3, closed=[False] * 3)
+            cb.add_rl("load.ql", mid, (GROUND,) * 3, np.zeros((3, 3)), np.eye(3) * x / omega)
+            load_groups.append("load.q")
+    leak_of: dict[int, str] = {}
+    for n in range(len(cb.node_names)):
+        name = f"leak.{n}"
+        cb.add_r(name, (n,), (GROUND,), [LEAK_OHM])
+        leak_of[n] = name
+    return _Layout(cb.build(f), breakers, line_end, tuple(fault_groups), tuple(fault_ground),
+                   tuple(faulted_breakers), leak_of, tuple(load_groups))
+
+
+def _chain(cb: CircuitBuilder, name: str, start, end, pieces, spec: SimulationSpec,
+           omega: float, mode: str) -> None:
+    """Series R-L (and shunt C) elements of ``pieces`` from node triple ``start`` to ``end``."""
+    segs: list[tuple[float, LineSection]] = []
+    for length, sec in pieces:
+        if length <= 0:
+            continue
+        n = 1
+        if mode == "pi" and spec.pi_segment_km is not None and sec.c1_nf_per_km > 0:
+            n = max(1, math.ceil(length / spec.pi_segment_km - 1e-9))
+        segs.extend([(length / n, sec)] * n)
+    if not segs:  # fault exactly at a line end: zero-length piece
+        cb.add_r(f"{name}.tie", start, end, [BOLTED_OHM] * 3)
+        return
+    node = start
+    for k, (length, sec) in enumerate(segs):
+        nxt = end if k == len(segs) - 1 else cb.bus(f"{name}.n{k}")
+        r, ll = _rl_of(sec.z0_ohm_per_km * length, sec.z1_ohm_per_km * length, omega)
+        cb.add_rl(f"{name}.s{k}", node, nxt, r, ll)
+        if mode == "pi" and sec.c1_nf_per_km > 0:
+            c = _c_of(sec.c0_nf_per_km * 1e-9 * length / 2.0, sec.c1_nf_per_km * 1e-9 * length / 2.0)
+            cb.add_c(f"{name}.c{k}a", node, (GROUND,) * 3, c)
+            cb.add_c(f"{name}.c{k}b", nxt, (GROUND,) * 3, c)
+        node = nxt
+
+
+# ----------------------------------------------------------------------------- run
+
+def _steps_per_cycle(spec: SimulationSpec) -> int:
+    k = max(1, math.ceil(spec.steps_per_cycle / spec.samples_per_cycle))
+    return k * spec.samples_per_cycle
+
+
+def simulate(model: NetworkModel, spec: SimulationSpec) -> SimulationResult:
+    """Simulate ``spec`` on ``model`` and return a record per terminal and the truth.
+
+    Parameters
+    ----------
+    model : NetworkModel
+    spec : SimulationSpec
+
+    Returns
+    -------
+    SimulationResult
+        ``records`` keyed by terminal id (every terminal of the model), with
+        voltages [V] and currents [A] in primary values and VT/CT ratios in
+        the channels; ``truth``.
+
+    Raises
+    ------
+    ModelError
+        When the model holds what the simulation cannot represent, or the
+        spec names an unknown line or bus.
+
+    Notes
+    -----
+    Engine and references: :mod:`eventlab.network.emt` (Dommel 1969; Marti
+    and Lin 1989).  Internal step ``1 / (f * steps_per_cycle)``; the recorder
+    samples every ``steps_per_cycle / samples_per_cycle``-th step.  No
+    anti-aliasing filter is modelled.
+    """
+    f = model.system.frequency_hz
+    omega = 2.0 * math.pi * f
+    fline = model.line(spec.line)
+    if spec.load_step is not None and spec.type != NO_FAULT:
+        raise ModelError("simulate: load_step is for no-fault records (type 'none')")
+    has_c = any(sec.c1_nf_per_km > 0 for ln in model.lines for sec in ln.sections)
+    mode = spec.line_model or ("pi" if has_c else "rl")
+    if mode == "pi" and not has_c:
+        raise ModelError(f"{model.source_name}: simulate: line_model 'pi' needs c1_nf_per_km and "
+                         f"c0_nf_per_km on the lines")
+    lay = _build(model, spec, mode)
+    circuit = lay.circuit
+    spc_int = _steps_per_cycle(spec)
+    decim = spc_int // spec.samples_per_cycle
+    dt = 1.0 / (f * spc_int)
+    n_total = int(round(spec.duration_s / dt / decim)) * decim
+
+    # watched quantities: per breaker 3 currents, per line end 3 voltages
+    keys = list(lay.breakers)
+    watch: list[int] = []
+    cur_slot: dict[str, slice] = {}
+    volt_slot: dict[str, slice] = {}
+    for key in keys:
+        s0 = len(watch)
+        watch.extend(element_current_index(circuit, lay.breakers[key]).tolist())
+        cur_slot[key] = slice(s0, s0 + 3)
+    for key in keys:
+        s0 = len(watch)
+        for node in lay.line_end_nodes[key]:
+            watch.extend(element_voltage_index(circuit, lay.leak_of[node]).tolist())
+        volt_slot[key] = slice(s0, s0 + 3)
+
+    closed: dict[str, tuple[bool, ...]] = {}
+    st = Stepper(circuit, dt, closed, np.array(watch), n_total)
+
+    # ---- point on wave
+    local_key = _local_key(model, fline, lay)
+    inception_s = None
+    inc_angle = None
+    if spec.type != NO_FAULT:
+        t_inc = spec.inception_s
+        # local phase-A voltage phasor (cosine reference, peak) from the steady state
+        big = st.steady_phasors()
+        va_peak = big[watch[volt_slot[local_key].start]]
+        if spec.inception_angle_deg is not None:
+            # sin(omega t + arg(va) + pi/2) = sin(theta)
+            theta = math.radians(spec.inception_angle_deg)
+            phase0 = omega * t_inc + np.angle(va_peak) + math.pi / 2.0
+            adv = (theta - phase0) % (2.0 * math.pi)
+            t_inc = t_inc + adv / omega
+        n_inc = int(round(t_inc / dt))
+        if n_inc >= n_total:
+            raise ModelError(f"simulate: the inception ({t_inc:.4f} s) falls after the end of the "
+                             f"record ({spec.duration_s} s)")
+        inception_s = n_inc * dt
+        ph = omega * inception_s + np.angle(va_peak) + math.pi / 2.0
+        inc_angle = math.degrees(ph) % 360.0
+
+    # ---- events: (step, kind, payload)
+    events: list[tuple[int, int, str, object]] = []
+    seq = [0]
+
+    def at(t_s: float, kind: str, payload=None) -> None:
+        seq[0] += 1
+        events.append((max(int(round(t_s / dt)), 1), seq[0], kind, payload))
+
+    if spec.type != NO_FAULT:
+        at(inception_s, "fault", 0)
+        if spec.evolve_to:
+            at(inception_s + spec.evolve_after_s, "fault", 1)
+        at(inception_s + spec.relay_time_s, "trip", None)
+        if spec.clear_after_s is not None:
+            at(inception_s + spec.clear_after_s, "open", None)
+    if spec.open_line_s is not None:
+        at(spec.open_line_s, "open", None)
+    if spec.load_step is not None:
+        at(spec.load_step.at_s, "load", None)
+
+    pole_closed = {k: [True, True, True] for k in keys}
+    pending: set[tuple[str, int]] = set()
+    trip_on: dict[str, list[float]] = {k: [] for k in lay.faulted_breakers}
+    trip_off: dict[str, list[float]] = {k: [] for k in lay.faulted_breakers}
+    opened: dict[str, list[list[float | None]]] = {k: [] for k in lay.faulted_breakers}
+    fault_slot = -1
+    reclose_s = None
+    evolve_s = None
+    clear_s = None
+    n_trips = 0
+
+    def breaker_state(key):
+        return tuple(pole_closed[key])
+
+    def apply(changes: dict[str, tuple[bool, ...]]) -> None:
+        st.switch(changes)
+
+    while st.n < n_total:
+        n_next = min([e[0] for e in events], default=n_total)
+        n_next = min(n_next, n_total)
+        if n_next > st.n:
+            if pending:
+                watch_pos = [cur_slot[k].start + p for (k, p) in sorted(pending)]
+
+                def crossed(prev, now, watch_pos=watch_pos):
+                    return any(prev[j] * now[j] <= 0.0 for j in watch_pos)
+
+                st.run(n_next, stop_when=crossed)
+            else:
+                st.run(n_next)
+        if st.n >= n_total:
+            break
+        changes: dict[str, tuple[bool, ...]] = {}
+        now_s = st.n * dt
+        if pending:
+            prev, now = st.out[:, st.n - 1], st.out[:, st.n]
+            hit = [(k, p) for (k, p) in pending
+                   if prev[cur_slot[k].start + p] * now[cur_slot[k].start + p] <= 0.0]
+            for k, p in hit:
+                pending.discard((k, p))
+                pole_closed[k][p] = False
+                if k in opened:
+                    opened[k][-1][p] = now_s
+                changes[lay.breakers[k]] = breaker_state(k)
+            for k in {k for k, _ in hit}:
+                if not any(pole_closed[k]) and k in trip_on and len(trip_off[k]) < len(trip_on[k]):
+                    trip_off[k].append(now_s)
+            if hit and all(not any(pole_closed[k]) for k in lay.faulted_breakers):
+                if clear_s is None and spec.type != NO_FAULT:
+                    clear_s = now_s
+                if (spec.reclose_after_s is not None and reclose_s is None
+                        and spec.type != NO_FAULT):
+                    at(now_s + spec.reclose_after_s, "close", None)
+                    if not spec.permanent:
+                        changes.update(_fault_changes(lay, -1))
+                        fault_slot = -1
+        for e in sorted(e for e in events if e[0] <= st.n):
+            _, _, kind, payload = e
+            events.remove(e)
+            if kind == "fault":
+                fault_slot = int(payload)
+                changes.update(_fault_changes(lay, fault_slot))
+                if fault_slot == 1:
+                    evolve_s = now_s
+            elif kind == "trip":
+                n_trips += 1
+                for k in lay.faulted_breakers:
+                    trip_on[k].append(now_s)
+            elif kind == "open":
+                for k in lay.faulted_breakers:
+                    if k in opened:
+                        opened[k].append([None, None, None])
+                    for p in range(3):
+                        if pole_closed[k][p]:
+                            pending.add((k, p))
+            elif kind == "close":
+                reclose_s = now_s
+                for k in lay.faulted_breakers:
+                    pole_closed[k] = [True, True, True]
+                    changes[lay.breakers[k]] = breaker_state(k)
+                if spec.permanent and fault_slot >= 0:
+                    at(now_s + spec.relay_time_s, "trip", None)
+                    if spec.clear_after_s is not None:
+                        at(now_s + spec.clear_after_s, "open", None)
+            elif kind == "load":
+                for g in lay.load_groups:
+                    changes[g] = (True, True, True)
+        if changes:
+            apply(changes)
+    # trip status still high at the end
+    out = st.out
+
+    # ---- recorder
+    terms = {t.id: t for t in model.terminals}
+    records: dict[str, Record] = {}
+    rng = np.random.default_rng(spec.seed)
+    trigger_s = next((x for x in (inception_s, spec.open_line_s,
+                                  spec.load_step.at_s if spec.load_step else None)
+                      if x is not None), 0.0)
+    n_rec = n_total // decim + 1
+    t_rec = np.arange(n_rec) / (f * spec.samples_per_cycle)
+    for t in model.terminals:
+        key = f"{t.line}@{t.bus}"
+        i_prim = out[cur_slot[key], :]
+        if t.ct_polarity == "reversed":
+            i_prim = -i_prim
+        v_prim = out[volt_slot[key], :]
+        kv = model.bus(t.bus).kv
+        ct = spec.ct_ratio or ((1200.0, 5.0) if f > 55 else (1200.0, 1.0))
+        vt = spec.vt_ratio or (kv * 1e3, 115.0 if f > 55 else 110.0)
+        ct_n = ct[0] / ct[1]
+        vt_n = vt[0] / vt[1]
+        i_sec = i_prim / ct_n
+        if spec.ct_saturation is not None and (not spec.ct_saturation_at
+                                               or t.id in spec.ct_saturation_at):
+            i_sec = ct_secondary(i_sec, dt, f, spec.ct_saturation)
+        i_sec = i_sec[:, ::decim]
+        v_sec = v_prim[:, ::decim] / vt_n
+        if spec.noise > 0:
+            v_sec = v_sec + rng.normal(0.0, spec.noise * vt[1] / math.sqrt(3.0), v_sec.shape)
+            i_sec = i_sec + rng.normal(0.0, spec.noise * ct[1], i_sec.shape)
+        status = _status_waveforms(t_rec, key, trip_on, trip_off, pole_closed, opened,
+                                   reclose_s, lay)
+        records[t.id] = _make_record(model, t, spec, t_rec, v_sec * vt_n, i_sec * ct_n,
+                                     vt, ct, status, trigger_s)
+
+    distance_km = spec.fraction * fline.length_km
+    nearest = None
+    if fline.structures and spec.type != NO_FAULT:
+        nearest = min(fline.structures, key=lambda s: abs(s.distance_km - distance_km)).structure
+    pole_open = {_term_id(model, k): tuple(tuple(x) for x in v) for k, v in opened.items()}
+    trips = {_term_id(model, k): tuple(v) for k, v in trip_on.items()}
+    truth = Truth(
+        model=model.system.name, line=fline.id, type=spec.type, fraction=float(spec.fraction),
+        distance_km=float(distance_km) if spec.type != NO_FAULT else 0.0,
+        r_fault_ohm=float(spec.r_fault_ohm), r_ground_ohm=float(spec.r_ground_ohm),
+        inception_s=inception_s, inception_angle_deg=inc_angle,
+        trip_s=trips, pole_open_s=pole_open, reclose_s=reclose_s, clear_s=clear_s,
+        evolve_to=spec.evolve_to, evolve_s=evolve_s, permanent=bool(spec.permanent),
+        frequency_hz=float(f), samples_per_cycle=spec.samples_per_cycle,
+        steps_per_cycle=spc_int, line_model=mode, nearest_structure=nearest,
+        stations={t.id: t.station for t in model.terminals},
+    )
+    return SimulationResult(records=records, truth=truth, terminals=terms)
+
+
+def _term_id(model: NetworkModel, key: str) -> str:
+    line, bus = key.split("@", 1)
+    for t in model.terminals:
+        if t.line == line and t.bus == bus:
+            return t.id
+    return key
+
+
+def _local_key(model: NetworkModel, line: Line, lay: _Layout) -> str:
+    for t in model.terminals:
+        if t.line == line.id:
+            return f"{line.id}@{t.bus}"
+    return f"{line.id}@{line.from_bus}"
+
+
+def _fault_changes(lay: _Layout, slot: int) -> dict[str, tuple[bool, ...]]:
+    ch: dict[str, tuple[bool, ...]] = {}
+    for k, (g, gg) in enumerate(zip(lay.fault_groups, lay.fault_ground, strict=True)):
+        m = len(next(b for b in lay.circuit.branches if b.name == g).nodes_from)
+        ch[g] = (k == slot,) * m
+        if gg:
+            ch[gg] = (k == slot,)
+    return ch
+
+
+def _status_waveforms(t_rec, key, trip_on, trip_off, pole_closed, opened, reclose_s, lay):
+    """TRIP and 52A-A/B/C as 0/1 arrays on the record time base."""
+    n = t_rec.size
+    trip = np.zeros(n, np.uint8)
+    for i, t_on in enumerate(trip_on.get(key, [])):
+        offs = trip_off.get(key, [])
+        t_off = offs[i] if i < len(offs) else math.inf
+        trip[(t_rec >= t_on - 1e-12) & (t_rec < t_off - 1e-12)] = 1
+    poles = np.ones((3, n), np.uint8)
+    cycles = opened.get(key, [])
+    for i, cyc in enumerate(cycles):
+        for p in range(3):
+            if cyc[p] is not None:
+                t_close = reclose_s if (reclose_s is not None and reclose_s > cyc[p]
+                                        and i == 0) else math.inf
+                poles[p, (t_rec >= cyc[p] - 1e-12) & (t_rec < t_close - 1e-12)] = 0
+    if key not in opened:
+        # breakers opened without the fault logic (not on the faulted line): never
+        pass
+    return trip, poles
+
+
+def _make_record(model: NetworkModel, t: Terminal, spec: SimulationSpec, t_rec, v_prim, i_prim,
+                 vt, ct, status, trigger_s: float) -> Record:
+    """The terminal's record in primary values, VT/CT ratios in the channels."""
+    names = {role: t.channels.get(role, role) for role in
+             ("VA", "VB", "VC", "IA", "IB", "IC", "IN", "TRIP", "52A-A", "52A-B", "52A-C")}
+    analog = []
+    for k, role in enumerate(("VA", "VB", "VC")):
+        analog.append({"name": names[role], "phase": "ABC"[k], "unit": "V", "values": v_prim[k],
+                       "circuit": t.line, "primary": float(vt[0]), "secondary": float(vt[1])})
+    for k, role in enumerate(("IA", "IB", "IC")):
+        analog.append({"name": names[role], "phase": "ABC"[k], "unit": "A", "values": i_prim[k],
+                       "circuit": t.line, "primary": float(ct[0]), "secondary": float(ct[1])})
+    analog.append({"name": names["IN"], "phase": "N", "unit": "A", "values": i_prim.sum(axis=0),
+                   "circuit": t.line, "primary": float(ct[0]), "secondary": float(ct[1])})
+    trip, poles = status
+    st = [{"name": names["TRIP"], "values": trip, "circuit": t.line, "normal": 0}]
+    for p in range(3):
+        role = f"52A-{'ABC'[p]}"
+        st.append({"name": names[role], "values": poles[p], "circuit": t.line,
+                   "phase": "ABC"[p], "normal": 1})
+    f = model.system.frequency_hz
+    return make_record(t.station, f * spec.samples_per_cycle, analog, st, frequency_hz=f,
+                       device=f"{t.id} simulated", start=spec.start, trigger_s=trigger_s,
+                       values="primary")
+
+
+def to_secondary(record: Record) -> Record:
+    """``record`` with its analog values divided by their primary/secondary ratios.
+
+    The channels' ``ps`` flags become ``"S"`` and ``record.values`` "secondary",
+    as a recorder that stores secondary values writes them.
+    """
+    if record.values == "secondary":
+        return record
+    chans = []
+    for ch in record.analog:
+        v = np.array(ch.values / ch.ratio)
+        v.setflags(write=False)
+        chans.append(replace(ch, values=v, ps="S"))
+    return replace(record, analog=tuple(chans), values="secondary")
+
+
+def _add_seconds(start: datetime, s: float) -> datetime:
+    from datetime import timedelta
+
+    return start + timedelta(microseconds=round(s * 1e6))
+
+
+# ----------------------------------------------------------------------------- writing
+
+def file_stem(station: str) -> str:
+    """File name stem for a station: spaces become underscores."""
+    return "_".join(str(station).split())
+
+
+def write_simulation(result: SimulationResult, out_dir, data_format: str = "BINARY",
+                     revision: int = 1999, single_file: bool = False) -> list[Path]:
+    """Write every record (``<STATION>.cfg/.dat``) and ``truth.json`` into ``out_dir``.
+
+    Parameters
+    ----------
+    result : SimulationResult
+    out_dir : str or Path
+        Created when missing.
+    data_format : {"ASCII", "BINARY", "BINARY32", "FLOAT32"}
+    revision : {1999, 2013}
+    single_file : bool
+        Write a 2013 ``.cff`` instead of ``.cfg``/``.dat``.
+
+    Returns
+    -------
+    list of Path
+        The files written.
+    """
+    from eventlab.records.writer import write_record
+
+    out = Path(out_dir)
+    out.mkdir(parents=True, exist_ok=True)
+    paths: list[Path] = []
+    stems = [file_stem(r.station) for r in result.records.values()]
+    for tid, rec in result.records.items():
+        stem = file_stem(rec.station)
+        if stems.count(stem) > 1:
+            stem = file_stem(f"{rec.station} {tid}")
+        rec = replace(to_secondary(rec), data_format=data_format, revision=revision)
+        paths.extend(write_record(rec, out / stem, revision=revision, data_format=data_format,
+                                  single_file=single_file))
+    truth_path = out / "truth.json"
+    truth_path.write_text(json.dumps(result.truth.to_dict(), indent=2) + "\n", encoding="utf-8")
+    paths.append(truth_path)
+    return paths
