@@ -276,6 +276,79 @@ def fault_currents_pu(code: str, z_th_012: np.ndarray, v_pre_012: np.ndarray,
     return np.linalg.solve(ci - cv @ zth, -cv @ v_pre)
 
 
+def reference_phase(code: str) -> int:
+    """The phase the classical interconnection is written for (0=A, 1=B, 2=C).
+
+    The faulted phase of a phase-to-ground fault, the healthy phase of a
+    phase-to-phase or two-phase-to-ground fault, A for a three-phase fault.
+    """
+    ph = faulted_phases(code)
+    if len(ph) == 1:
+        return ph[0]
+    if len(ph) == 2:
+        return next(k for k in range(3) if k not in ph)
+    return 0
+
+
+#: x_A-referred = _REF_ROT[r] * x_r-referred, per sequence (0, 1, 2)
+_A = complex(np.exp(2j * np.pi / 3))
+_REF_ROT = {0: np.array([1, 1, 1], dtype=complex),
+            1: np.array([1, _A, _A * _A], dtype=complex),
+            2: np.array([1, _A * _A, _A], dtype=complex)}
+
+
+def classical_fault_currents_012(code: str, z_th_012: np.ndarray, v_pre_pu: complex,
+                                 r_fault_pu: float, r_ground_pu: float) -> np.ndarray:
+    """Sequence currents into the fault by the classical interconnection [pu], phase-A referred.
+
+    Parameters
+    ----------
+    code : str
+        Fault type.
+    z_th_012 : complex ndarray, shape (3,)
+        Thevenin impedances Z0, Z1, Z2 at the fault [pu].
+    v_pre_pu : complex
+        Pre-fault positive-sequence (phase-A) voltage at the fault [pu].
+    r_fault_pu, r_ground_pu : float
+        Rf, Rg [pu].
+
+    Notes
+    -----
+    With ``V`` the pre-fault voltage of the reference phase r
+    (:func:`reference_phase`) and the sequence networks referred to r
+    (Anderson 1973, ch. 3; Grainger & Stevenson 1994, sec. 12.2-12.4):
+
+    * phase-to-ground, networks in series: ``I1 = I2 = I0 = V / (Z1 + Z2 + Z0 + 3 Rf)``;
+    * phase-to-phase, positive and negative in parallel opposition:
+      ``I1 = -I2 = V / (Z1 + Z2 + Rf)``, ``I0 = 0``;
+    * two-phase-to-ground, the three in parallel: ``I1 = V / (Z1 + Rf + Zp)`` with
+      ``Zp = (Z2 + Rf) || (Z0 + Rf + 3 Rg)``, ``I2 = -I1 (Z0 + Rf + 3 Rg) / S``,
+      ``I0 = -I1 (Z2 + Rf) / S``, ``S = Z2 + Z0 + 2 Rf + 3 Rg``;
+    * three-phase: ``I1 = V / (Z1 + Rf)``, ``I2 = I0 = 0``.
+
+    Then ``I_a1 = a^k I_r1``, ``I_a2 = a^-k I_r2`` with k = 0, 1, 2 for r = A, B, C.
+    """
+    code = check_fault_type(code)
+    z0, z1, z2 = (complex(z) for z in z_th_012)
+    rf, rg = r_fault_pu, r_ground_pu
+    r = reference_phase(code)
+    v = v_pre_pu * (1.0, _A * _A, _A)[r]
+    n = len(faulted_phases(code))
+    if n == 1:
+        i1 = v / (z1 + z2 + z0 + 3 * rf)
+        i_r = np.array([i1, i1, i1])
+    elif n == 2 and not code.endswith("G"):
+        i1 = v / (z1 + z2 + rf)
+        i_r = np.array([0.0, i1, -i1])
+    elif n == 2:
+        za, zg = z2 + rf, z0 + rf + 3 * rg
+        i1 = v / (z1 + rf + za * zg / (za + zg))
+        i_r = np.array([-i1 * za / (za + zg), i1, -i1 * zg / (za + zg)])
+    else:
+        i_r = np.array([0.0, v / (z1 + rf), 0.0])
+    return _REF_ROT[r] * i_r
+
+
 # ----------------------------------------------------------------------------- solving
 
 def _network(model: NetworkModel, spec: FaultSpec | None) -> SequenceNetwork:
@@ -398,7 +471,7 @@ def _assemble(model, net, spec, v012, v_pre, fault, i_f_012):
                                v_abc_pre=(FORTESCUE @ v_pre[:, i]) * vb,
                                v_012=v012[:, i] * vb, v_012_pu=v012[:, i].copy())
     branches: list[BranchCurrent] = []
-    for (eid, bus), (e, p) in net.ports.items():
+    for (eid, bus), (e, _p) in net.ports.items():
         i012, i1pre, kv = port((eid, bus))
         kind = "transformer" if net.elements[e].kind == "transformer" else "line"
         if fault is not None and net.fault_at_end == (eid, bus):

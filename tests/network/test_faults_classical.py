@@ -78,3 +78,19 @@ def test_prefault_no_load_when_emfs_equal(model):
     v, i = prefault(model)["WEST-L1"]
     np.testing.assert_allclose(v, E * np.array([1, A**2, A]), rtol=1e-12)
     assert np.max(np.abs(i)) < 1e-9
+
+
+@pytest.mark.parametrize("code", ["AG", "BG", "CG", "AB", "BC", "CA", "ABG", "BCG", "CAG", "ABC"])
+@pytest.mark.parametrize("rf, rg", [(0.0, 0.0), (0.013, 0.021)])
+def test_classical_interconnection_agrees_with_general_solution(code, rf, rg):
+    from eventlab.network.faults import classical_fault_currents_012, fault_currents_pu
+    from eventlab.symmetrical import abc_to_012
+
+    if rg and code not in ("ABG", "BCG", "CAG", "ABC"):
+        rg = 0.0
+    rng = np.random.default_rng(7)
+    z = rng.uniform(0.01, 0.1, 3) + 1j * rng.uniform(0.1, 0.6, 3)
+    v = 1.03 * np.exp(0.2j)
+    general = abc_to_012(fault_currents_pu(code, z, np.array([0, v, 0]), rf, rg))
+    np.testing.assert_allclose(classical_fault_currents_012(code, z, v, rf, rg), general,
+                               atol=1e-12)

@@ -49,7 +49,7 @@ def _pp_net(m):
     """WEST=0, EAST=1, auxiliary fault bus F=2 at fraction m; lines 0 (WEST-F), 1 (F-EAST)."""
     net = pp.create_empty_network(sn_mva=100.0, f_hz=60.0)
     buses = [pp.create_bus(net, 230.0, name=n) for n in ("WEST", "EAST", "F")]
-    for b, (z1, z0) in zip(buses, SOURCES.values()):
+    for b, (z1, z0) in zip(buses[:2], SOURCES.values(), strict=True):
         kw = {"s_sc_%s_mva": 230.0**2 / abs(z1), "rx_%s": z1.real / z1.imag,
               "x0x_%s": z0.imag / z1.imag, "r0x0_%s": z0.real / z0.imag}
         pp.create_ext_grid(net, b, **{k % c: v for k, v in kw.items() for c in ("min", "max")})
