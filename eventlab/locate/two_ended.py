@@ -15,7 +15,7 @@ eliminate.  Shunt capacitance is neglected.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 from scipy.optimize import brentq, minimize_scalar
@@ -241,3 +241,45 @@ def two_ended_unsynchronised(local: TerminalPhasors, remote: TerminalPhasors,
                            fault_resistance_ohm=_resistance(local, rem, line, d),
                            notes=(f"{seq_name}-sequence quantities, unknown angle solved",),
                            extra={"sync_angle_deg": float(np.degrees(delta))})
+
+
+def two_ended_uncertainty(local: TerminalPhasors, remote: TerminalPhasors, line: LineData, *,
+                          synchronised: bool, ct_sigma: tuple[float, float],
+                          vt_sigma: tuple[float, float], z1_tolerance: float,
+                          time_sigma_s: float = 50e-6) -> dict[str, float]:
+    """One-sigma contributions [km] to the two-ended distance, by linearisation.
+
+    Each of: ratio and phase error of each end's CT and VT set (``ct_sigma``,
+    ``vt_sigma`` as ``(ratio [-], phase [rad])`` standard deviations), the line
+    Z1 tolerance, and for synchronised records the clock alignment
+    ``time_sigma_s`` [s], is perturbed by a small step and the distance
+    recomputed: ``s_d = |dd/dc| s_c``.  ``remote`` must already be aligned
+    when ``synchronised``.
+    """
+    def solve(lo, re, ln):
+        if synchronised:
+            return two_ended_synchronised(lo, re, ln, aligned=True).distance_km
+        return two_ended_unsynchronised(lo, re, ln).distance_km
+
+    d0 = solve(local, remote, line)
+    h = 1e-5
+    parts: dict[str, float] = {}
+
+    def scaled(e, ct=1.0, vt=1.0):
+        return replace(e, v_pre=e.v_pre * vt, v_fault=e.v_fault * vt,
+                       i_pre=e.i_pre * ct, i_fault=e.i_fault * ct)
+
+    for label, idx in (("local", 0), ("remote", 1)):
+        for name, ct, vt, s in (("CT ratio", 1 + h, 1.0, ct_sigma[0]),
+                                ("CT phase", np.exp(1j * h), 1.0, ct_sigma[1]),
+                                ("VT ratio", 1.0, 1 + h, vt_sigma[0]),
+                                ("VT phase", 1.0, np.exp(1j * h), vt_sigma[1])):
+            ends = [local, remote]
+            ends[idx] = scaled(ends[idx], ct, vt)
+            parts[f"{name} {label}"] = abs(solve(ends[0], ends[1], line) - d0) / h * s
+    parts["line Z1"] = abs(solve(local, remote, line.scaled(1 + h, 1 + h)) - d0) / h * z1_tolerance
+    if synchronised:
+        rot = local.omega * h * 1e-3
+        parts["time alignment"] = (abs(solve(local, remote.rotated(rot), line) - d0)
+                                   / (h * 1e-3) * time_sigma_s)
+    return parts

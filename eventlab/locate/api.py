@@ -1,0 +1,328 @@
+"""The entry point the analysis calls: :func:`locate_event` -> :class:`LocationReport`."""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass, field, replace
+
+import numpy as np
+
+from eventlab.errors import EventlabError, FitDidNotConverge, ModelError, SignalError
+from eventlab.network.model import NetworkModel
+from eventlab.units import km_to_miles
+
+from .compare import Comparison, compare
+from .estimate import LocatorEstimate
+from .inputs import TerminalPhasors
+from .model_fit import CT_CLASSES, VT_CLASSES, FitOptions, ModelFitResult, fit_fault
+from .model_link import (
+    distribution_angle,
+    line_from,
+    pair_ends,
+    source_impedances,
+)
+from .single_ended import eriksson, modified_takagi, reactance, takagi
+from .structures import StructureSpan, locate_structures
+from .two_ended import (
+    SyncCheck,
+    align_remote,
+    sync_check,
+    two_ended_synchronised,
+    two_ended_uncertainty,
+    two_ended_unsynchronised,
+)
+
+#: Printed with every location (project safety rule).
+CAUTION = ("Fault location is an estimate to direct a patrol, not a clearance: treat the "
+           "line as energized until it is isolated and earthed under the local switching "
+           "and safety rules; confirm the fault by patrol. Local codes and licensed "
+           "practice take precedence.")
+
+SINGLE_ENDED = ("reactance", "takagi", "modified_takagi", "eriksson")
+
+
+@dataclass(frozen=True)
+class LocateOptions:
+    """Settings of :func:`locate_event`.
+
+    Parameters
+    ----------
+    fit : FitOptions
+        Model-matched solve settings (accuracy classes, tolerances, priors).
+    terminal_map : mapping, optional
+        Explicit station name -> model terminal id pairing.
+    max_sync_offset_s : float
+        Largest inception-instant offset [s] between the records for which
+        their clocks are trusted as aligned.
+    time_sigma_s : float
+        One-sigma clock alignment error of synchronised records [s].
+    ratio_tolerance, angle_tolerance_deg : float
+        Measured-versus-computed tolerance [-], [deg].
+    run_fit : bool
+        Run the model-matched solve.
+    """
+
+    fit: FitOptions = field(default_factory=FitOptions)
+    terminal_map: Mapping[str, str] | None = None
+    max_sync_offset_s: float = 0.5e-3
+    time_sigma_s: float = 10e-6
+    ratio_tolerance: float = 0.10
+    angle_tolerance_deg: float = 10.0
+    run_fit: bool = True
+
+
+@dataclass(frozen=True)
+class LocationReport:
+    """Everything the location step found; :meth:`to_dict` gives the JSON contract."""
+
+    line_id: str
+    reference_terminal: str
+    length_km: float
+    fault_type: str
+    best: LocatorEstimate
+    interval_km: tuple[float, float]
+    methods: tuple[LocatorEstimate, ...]
+    fit: ModelFitResult | None
+    structures: StructureSpan
+    comparison: Comparison | None
+    sync: SyncCheck | None
+    uncertainty_km: dict
+    assumptions: tuple[str, ...]
+    notes: tuple[str, ...]
+    caution: str = CAUTION
+
+    @property
+    def distance_km(self) -> float:
+        return self.best.distance_km
+
+    def to_dict(self) -> dict:
+        b = self.best
+        loc = {
+            "distance_km": float(b.distance_km),
+            "distance_mi": km_to_miles(float(b.distance_km)),
+            "fraction": float(b.fraction),
+            "fault_resistance_ohm": (None if b.fault_resistance_ohm is None
+                                     else float(b.fault_resistance_ohm)),
+            "interval_km": [float(self.interval_km[0]), float(self.interval_km[1])],
+            "method": b.method,
+            "line": self.line_id,
+            "reference_terminal": self.reference_terminal,
+            "length_km": float(self.length_km),
+            "fault_type": self.fault_type,
+            "structures": self.structures.to_dict(),
+            "methods": [m.to_dict() for m in self.methods],
+            "uncertainty_km": {k: float(v) for k, v in self.uncertainty_km.items()},
+            "assumptions": list(self.assumptions),
+            "notes": list(self.notes),
+            "caution": self.caution,
+        }
+        if self.sync is not None:
+            loc["sync"] = self.sync.to_dict()
+        if self.fit is not None:
+            f = self.fit
+            loc["model_fit"] = {
+                "distance_km": float(f.distance_km), "fault_resistance_ohm": f.r_fault_ohm,
+                "ground_resistance_ohm": f.r_ground_ohm, "local_source_z_scale": f.local_z_scale,
+                "remote_source_z_scale": f.remote_z_scale, "residual_rms": f.residual_rms,
+                "residual_scale": f.chi2_scale, "interval_km": list(f.interval_km),
+                "sigma_km": f.sigma_km, "evaluations": f.nfev,
+                "terminals": list(f.used_terminals),
+            }
+        comp = []
+        if self.comparison is not None:
+            comp = [r.to_dict() for r in self.comparison.rows]
+            loc["verdict"] = (list(self.comparison.verdicts) or [
+                "measured and computed currents and voltages agree within "
+                f"{self.comparison.ratio_tolerance:.0%} and "
+                f"{self.comparison.angle_tolerance_deg:g} deg"])
+            loc["bolted_fault_currents"] = self.comparison.bolted_fault_currents
+        return {"location": loc, "comparison": comp}
+
+
+def _try(notes: list[str], label: str, fn, *args, **kwargs):
+    try:
+        return fn(*args, **kwargs)
+    except (SignalError, ModelError, FitDidNotConverge) as exc:
+        notes.append(f"{label}: not run ({exc})")
+        return None
+
+
+def locate_event(model: NetworkModel, ends: Sequence[TerminalPhasors], line: str | None = None,
+                 options: LocateOptions | None = None) -> LocationReport:
+    """Locate the fault from one or two line ends' phasors.
+
+    Parameters
+    ----------
+    model : NetworkModel
+        The network model (:func:`eventlab.network.model.load_model`).
+    ends : sequence of TerminalPhasors
+        One or two ends; distances are given from the first end's terminal.
+    line : str, optional
+        The faulted line; found from the first end's station when None.
+    options : LocateOptions, optional
+
+    Returns
+    -------
+    LocationReport
+        The answer eventlab stands behind (two-ended where both ends are given
+        and it solved, else the model-matched fit where it converged, else
+        the modified Takagi method), every method's estimate, the interval,
+        structures, the measured-versus-computed table and the caution.
+
+    Raises
+    ------
+    ModelError
+        When the ends cannot be paired with the model's terminals.
+    """
+    opts = options or LocateOptions()
+    pairing = pair_ends(model, ends, line, opts.terminal_map)
+    line_id = pairing.line_id
+    ends = pairing.ends
+    terms = pairing.terminals
+    ref_end, ref_t = ends[0], terms[0]
+    ld = line_from(model, line_id, ref_t)
+    length = ld.length_km
+    code = ref_end.fault_type
+    notes: list[str] = [f"{e.station} paired with terminal {t.id} by {h}"
+                        for e, t, h in zip(ends, terms, pairing.how, strict=True)]
+    if len(ends) == 2 and ends[1].fault_type != code:
+        notes.append(f"fault types differ between the ends ({code}, {ends[1].fault_type}); "
+                     f"{code} from {ref_end.station} used")
+        ends = (ends[0], _with_type(ends[1], code))
+    methods: list[LocatorEstimate] = []
+
+    # single-ended methods on the reference end
+    for fn in (reactance, takagi):
+        est = _try(notes, fn.__name__, fn, ref_end, ld)
+        if est is not None:
+            methods.append(est)
+    start = methods[-1].fraction if methods else 0.5
+    mt = None
+    angle = 0.0
+    for _ in range(3):
+        angle = _try(notes, "modified_takagi angle", distribution_angle, model, line_id, ref_t,
+                     float(min(max(start, 0.0), 1.0)), code) or 0.0
+        mt = _try(notes, "modified_takagi", modified_takagi, ref_end, ld, angle)
+        if mt is None:
+            break
+        start = mt.fraction
+    if mt is not None:
+        methods.append(mt)
+    far_bus = model.line(line_id).other_end(ref_t.bus)
+    try:
+        z_loc = source_impedances(model, ref_t.bus)
+        z_rem = source_impedances(model, far_bus)
+    except ModelError as exc:
+        notes.append(f"eriksson: not run ({exc})")
+    else:
+        est = _try(notes, "eriksson", eriksson, ref_end, ld, z_loc, z_rem)
+        if est is not None:
+            methods.append(est)
+
+    # two-ended
+    sync = None
+    two = None
+    two_parts: dict[str, float] = {}
+    fit_ends = [ref_end]
+    ct_r, ct_ph = CT_CLASSES[opts.fit.ct_class]
+    vt_r, vt_ph = VT_CLASSES[opts.fit.vt_class]
+    ct_sigma = (ct_r / 2, math.radians(ct_ph / 60) / 2)
+    vt_sigma = (vt_r / 2, math.radians(vt_ph / 60) / 2)
+    if len(ends) == 2:
+        remote = ends[1]
+        sync = sync_check(ref_end, remote, opts.max_sync_offset_s)
+        uns = _try(notes, "two_ended_unsync", two_ended_unsynchronised, ref_end, remote, ld)
+        if uns is not None:
+            methods.append(uns)
+        synced = None
+        if sync.synchronised:
+            aligned = align_remote(ref_end, remote)
+            synced = _try(notes, "two_ended_sync", two_ended_synchronised, ref_end, aligned,
+                          ld, aligned=True)
+            if synced is not None:
+                methods.append(synced)
+                two = synced
+                fit_ends.append(aligned)
+        else:
+            notes.append(f"two_ended_sync: not run ({sync.reason})")
+        if two is None and uns is not None:
+            two = uns
+            fit_ends.append(remote.rotated(np.radians(uns.extra["sync_angle_deg"])))
+        if two is not None:
+            is_sync = two.method == "two_ended_sync"
+            rem_for = fit_ends[1] if len(fit_ends) > 1 else remote
+            two_parts = _try(notes, "two-ended interval", two_ended_uncertainty, ref_end,
+                             rem_for, ld, synchronised=is_sync, ct_sigma=ct_sigma,
+                             vt_sigma=vt_sigma, z1_tolerance=opts.fit.z1_tolerance,
+                             time_sigma_s=opts.time_sigma_s) or {}
+
+    # model-matched solve
+    fit = None
+    comparison = None
+    if opts.run_fit:
+        seed = two or mt or (methods[-1] if methods else None)
+        r0 = next((m.fault_resistance_ohm for m in reversed(methods)
+                   if m.fault_resistance_ohm is not None), 1.0) or 1.0
+        fit = _try(notes, "model_fit", fit_fault, model, line_id, fit_ends,
+                   terms[:len(fit_ends)], start_fraction=seed.fraction if seed else 0.5,
+                   start_r_ohm=max(r0, 0.0), options=opts.fit)
+        if fit is not None:
+            methods.append(LocatorEstimate(
+                "model_fit", fit.distance_km, length, ref_t.id, fit.r_fault_ohm,
+                (f"{len(fit_ends)} terminal(s)",),
+                {"interval_km": list(fit.interval_km), "ground_resistance_ohm": fit.r_ground_ohm,
+                 "remote_source_z_scale": fit.remote_z_scale,
+                 "local_source_z_scale": fit.local_z_scale}))
+            try:
+                comparison = compare(fit, fit_ends, terms[:len(fit_ends)],
+                                     ratio_tolerance=opts.ratio_tolerance,
+                                     angle_tolerance_deg=opts.angle_tolerance_deg,
+                                     options=opts.fit)
+            except EventlabError as exc:
+                notes.append(f"comparison: not made ({exc})")
+
+    # the answer stood behind
+    assumptions: list[str] = ["series-impedance (short-line) model of the faulted line for the "
+                              "impedance methods; shunt capacitance neglected"]
+    if two is not None:
+        best = two
+        sigma = math.sqrt(sum(v * v for v in two_parts.values()))
+        k = opts.fit.coverage_factor
+        interval = (max(0.0, two.distance_km - k * sigma), min(length, two.distance_km + k * sigma))
+        parts = two_parts
+        assumptions.append(f"two-ended interval: +/- {k:g} sigma from CT class "
+                           f"{opts.fit.ct_class}, VT class {opts.fit.vt_class} (limits as two "
+                           f"sigma), line Z1 tolerance {opts.fit.z1_tolerance:.0%}"
+                           + (", clock alignment" if two.method == "two_ended_sync" else ""))
+    elif fit is not None:
+        best = methods[-1]
+        interval = fit.interval_km
+        parts = fit.sigma_parts_km
+        assumptions += list(fit.assumptions)
+    elif mt is not None or methods:
+        best = mt or methods[-1]
+        half = 0.05 * length
+        interval = (max(0.0, best.distance_km - half), min(length, best.distance_km + half))
+        parts = {}
+        assumptions.append("no model fit: interval +/- 5 % of the line length "
+                           "(common practice, no source)")
+    else:
+        raise SignalError(f"locate: no method could locate the fault on line {line_id}; "
+                          + "; ".join(notes))
+    if fit is not None and best is not methods[-1]:
+        assumptions += [a for a in fit.assumptions if a not in assumptions]
+    st = locate_structures(ld, best.distance_km, interval)
+    return LocationReport(
+        line_id=line_id, reference_terminal=ref_t.id, length_km=length, fault_type=code,
+        best=best, interval_km=(float(interval[0]), float(interval[1])),
+        methods=tuple(methods), fit=fit, structures=st, comparison=comparison, sync=sync,
+        uncertainty_km={k: float(v) for k, v in parts.items()},
+        assumptions=tuple(assumptions), notes=tuple(notes))
+
+
+def _with_type(end: TerminalPhasors, code: str) -> TerminalPhasors:
+    return replace(end, fault_type=code)
+
+
+__all__ = ["CAUTION", "LocateOptions", "LocationReport", "locate_event"]
