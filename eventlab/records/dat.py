@@ -48,8 +48,9 @@ class DatData:
 
     sample_numbers: np.ndarray   # int64 (n,)
     timestamps: np.ndarray       # float64 (n,), NaN where missing
-    raw: np.ndarray              # float64 (n_analog, n), NaN where missing
+    raw: np.ndarray              # (n, n_analog) numbers as stored (int or float, maybe a view)
     status: np.ndarray           # uint8 (n_status, n)
+    missing_code: float | None = None   # raw value that marks missing data, or None
 
 
 def missing_code(data_format: str, revision: int) -> float | None:
@@ -113,34 +114,36 @@ def decode_binary(buf: bytes, info: CfgInfo, path: str | None = None) -> DatData
     ts = ts_raw.astype(np.float64)
     ts[ts_raw == TIMESTAMP_MISSING] = np.nan
     if info.n_analog:
-        raw = rows["a"].T.astype(np.float64)
-        code = missing_code(info.data_format, info.revision)
-        if code is not None:
-            raw[raw == code] = np.nan
+        raw = rows["a"]
     else:
-        raw = np.empty((0, n_decl))
+        raw = np.empty((n_decl, 0))
     if info.n_status:
-        words = np.ascontiguousarray(rows["s"])
-        bits = np.unpackbits(words.view(np.uint8).reshape(n_decl, -1), axis=1,
-                             bitorder="little")
-        status = np.ascontiguousarray(bits[:, :info.n_status].T)
+        words = np.ascontiguousarray(rows["s"].T)       # (n_words, n)
+        status = np.empty((info.n_status, n_decl), dtype=np.uint8)
+        for k in range(info.n_status):                  # bit k % 16 of word k // 16
+            np.bitwise_and(np.right_shift(words[k // 16], k % 16), 1, out=status[k],
+                           casting="unsafe")
     else:
         status = np.empty((0, n_decl), dtype=np.uint8)
-    return DatData(n, ts, raw, status)
+    return DatData(n, ts, raw, status, missing_code(info.data_format, info.revision))
 
 
 def _ascii_table_fast(buf: bytes, n_cols: int, n_rows: int) -> np.ndarray | None:
     """Parse a well-formed ASCII table with numpy's C parser, or None if it is not."""
     if n_rows == 0:
         return None
-    try:
-        table = np.loadtxt(io.BytesIO(buf), delimiter=",", dtype=np.float64, ndmin=2,
-                           comments=None, encoding="latin-1")
-    except (ValueError, IndexError):
-        return None
-    if table.shape != (n_rows, n_cols) or not np.isfinite(table).all():
-        return None
-    return table
+    for dtype in (np.int64, np.float64):  # integers parse several times faster
+        try:
+            table = np.loadtxt(io.BytesIO(buf), delimiter=",", dtype=dtype, ndmin=2,
+                               comments=None, encoding="latin-1")
+        except (ValueError, IndexError, OverflowError):
+            continue
+        if table.shape != (n_rows, n_cols):
+            return None
+        if dtype is np.float64 and not np.isfinite(table).all():
+            return None
+        return table
+    return None
 
 
 def decode_ascii(buf: bytes, info: CfgInfo, path: str | None = None) -> DatData:
@@ -164,11 +167,8 @@ def decode_ascii(buf: bytes, info: CfgInfo, path: str | None = None) -> DatData:
                                 path=path, line=k + 1, field="n")
     n = n_col.astype(np.int64)
     _check_sample_numbers(n, path)
-    ts = table[:, 1].copy()
-    raw = np.ascontiguousarray(table[:, 2:2 + na].T)
-    code = missing_code("ASCII", info.revision)
-    if code is not None:
-        raw[raw == code] = np.nan
+    ts = table[:, 1].astype(np.float64)
+    raw = table[:, 2:2 + na]
     st = table[:, 2 + na:]
     if ns:
         bad = ~((st == 0.0) | (st == 1.0))
@@ -178,7 +178,7 @@ def decode_ascii(buf: bytes, info: CfgInfo, path: str | None = None) -> DatData:
                 f"status value {st[r, c]!r} of channel {info.status[c].name!r}; expected 0 "
                 f"or 1", path=path, line=r + 1, field=f"D{c + 1}")
     status = np.ascontiguousarray(st.T.astype(np.uint8))
-    return DatData(n, ts, raw, status)
+    return DatData(n, ts, raw, status, missing_code("ASCII", info.revision))
 
 
 def _ascii_table_slow(buf: bytes, info: CfgInfo, path: str | None) -> np.ndarray:
