@@ -346,3 +346,41 @@ def estimate_decay_tau(samples, samples_per_cycle: int, sample_rate_hz: float,
     if not np.isfinite(ratio) or ratio <= 1.0:
         return None
     return float(n / sample_rate_hz / np.log(ratio))
+
+
+def window_phasor(samples, end_index: int, samples_per_cycle: int,
+                  tau_samples: float | None = None) -> np.ndarray:
+    """Full-cycle DFT phasor of the one window ending at ``end_index`` [A] or [V].
+
+    Same value and reference as ``dft_phasors(samples, N)[..., end_index]``
+    (or :func:`mimic_phasors` when ``tau_samples`` is given), computed on that
+    window only.
+
+    Parameters
+    ----------
+    samples : array_like, shape (..., n)
+    end_index : int
+        Last sample of the window (``>= N - 1``, or ``>= N`` with the mimic).
+    samples_per_cycle : int
+    tau_samples : float, optional
+        Offset time constant [samples] for the mimic filter (Benmouyal 1995).
+
+    Returns
+    -------
+    complex ndarray, shape (...)
+    """
+    x = _as_samples(samples)
+    n = check_samples_per_cycle(samples_per_cycle)
+    k = int(end_index)
+    need = n if tau_samples is None else n + 1
+    if k < need - 1 or k >= x.shape[-1]:
+        raise SignalError(f"window ending at sample {k}: expected {need - 1} <= index < "
+                          f"{x.shape[-1]}")
+    m = np.arange(k - n + 1, k + 1)
+    seg = x[..., k - n + 1:k + 1]
+    if tau_samples is None:
+        return (SQRT2 / n) * (seg @ _rotator_at(m, n))
+    g = _gain(n, tau_samples)
+    alpha = float(np.exp(-1.0 / tau_samples))
+    y = seg - alpha * x[..., k - n:k]
+    return (SQRT2 / n) * (y @ _rotator_at(m, n)) / g

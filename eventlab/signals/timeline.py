@@ -1,0 +1,583 @@
+"""Timeline of an event at one line terminal.
+
+Fault inception from superimposed (delta) quantities against one cycle
+earlier; pole opening and closing per phase; trip and breaker-status edges;
+fault intervals (an evolving fault and a reclosure onto a fault give separate
+intervals), each with its pre-fault and fault windows and its classification.
+
+Arrays in, frozen dataclasses out; times are seconds from the record's first
+sample.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from eventlab.errors import SignalError
+from eventlab.faulttypes import NO_FAULT, faulted_phases
+from eventlab.signals.classify import Classification, classify_fault
+from eventlab.signals.phasors import dft_phasors, estimate_decay_tau, window_phasor
+from eventlab.signals.windows import Window, fault_window, prefault_window
+from eventlab.symmetrical import abc_to_012
+
+PHASES = ("A", "B", "C")
+
+#: detector settings (common practice, no source)
+ONSET_REL = 0.005        # delta above this fraction of the channel's local peak ...
+ONSET_SIGMAS = 5.0       # ... plus this many baseline standard deviations
+OPEN_REL = 0.03          # pole open: |i| below this fraction of the phase's fault peak
+NEG_ZERO_RATIO = 0.10    # |I2| or |I0| over max(|I1|, scale): unbalanced fault
+V_SAG = 0.90             # |V1| under this times the reference: voltage sag
+V_UNBAL = 0.05           # |V2| or |V0| over the reference |V1|
+
+
+@dataclass(frozen=True)
+class PoleEvent:
+    """A pole (phase) opening or closing at this terminal, from its current."""
+
+    phase: str
+    kind: str           # "open" | "close"
+    time_s: float
+    index: int
+
+    def to_dict(self) -> dict:
+        return {"phase": self.phase, "kind": self.kind, "time_s": self.time_s,
+                "index": self.index}
+
+
+@dataclass(frozen=True)
+class StatusEdge:
+    """A change of a status channel: ``state`` is the new value (0/1)."""
+
+    channel: str
+    role: str           # "trip" | "breaker" | "status"
+    time_s: float
+    index: int
+    state: int
+    asserted: bool      # the new state differs from the channel's normal state
+
+    def to_dict(self) -> dict:
+        return {"channel": self.channel, "role": self.role, "time_s": self.time_s,
+                "index": self.index, "state": self.state, "asserted": self.asserted}
+
+
+@dataclass(frozen=True)
+class FaultInterval:
+    """One fault stage: from ``start_s`` to ``end_s`` (None if still on at the record's end)."""
+
+    kind: str                       # "fault" | "evolved" | "reclose"
+    type: str
+    start_s: float
+    end_s: float | None
+    start_index: int
+    end_index: int | None
+    classification: Classification
+    prefault: Window | None
+    fault: Window
+    pole_open_s: tuple[float | None, float | None, float | None]
+    cleared_by_poles: bool
+    tau_s: float | None             # offset time constant used for the fault window [s]
+    i_prefault: np.ndarray = field(repr=False, compare=False)   # (3,) [A]
+    v_prefault: np.ndarray = field(repr=False, compare=False)   # (3,) [V]
+    i_fault: np.ndarray = field(repr=False, compare=False)
+    v_fault: np.ndarray = field(repr=False, compare=False)
+
+    @property
+    def duration_ms(self) -> float | None:
+        return None if self.end_s is None else 1e3 * (self.end_s - self.start_s)
+
+
+@dataclass(frozen=True)
+class Timeline:
+    """Timeline of one terminal; the headline figures refer to the first fault."""
+
+    inception_s: float | None
+    clearing_s: float | None
+    duration_ms: float | None
+    duration_cycles: float | None
+    relay_time_ms: float | None
+    breaker_time_ms: float | None
+    trip_s: float | None
+    pole_open_s: tuple[float | None, float | None, float | None]
+    intervals: tuple[FaultInterval, ...]
+    poles: tuple[PoleEvent, ...]
+    edges: tuple[StatusEdge, ...]
+    flags: tuple[str, ...]
+    fault_type: str
+
+
+# ------------------------------------------------------------------ pieces
+def superimposed(samples, samples_per_cycle: int) -> np.ndarray:
+    """``dx_k = x_k - x_{k-N}`` along the last axis (NaN for the first cycle).
+
+    Notes
+    -----
+    Superimposed (incremental) quantities: the change against the same point
+    of the previous cycle; zero in a steady state at nominal frequency.
+    """
+    x = np.asarray(samples, dtype=float)
+    n = int(samples_per_cycle)
+    d = np.full(x.shape, np.nan)
+    d[..., n:] = x[..., n:] - x[..., :-n]
+    return d
+
+
+def detect_onset(delta, search: tuple[int, int], baseline: tuple[int, int],
+                 peak: np.ndarray | None = None, *, baseline_max: bool = False) -> int | None:
+    """First sample of a disturbance in ``delta`` (c, n) within ``search`` = [a, b).
+
+    A channel exceeds its threshold ``5 sigma + 0.005 peak``, with ``sigma``
+    from the median absolute deviation of ``delta`` over ``baseline`` (or, with
+    ``baseline_max``, ``1.2 max|delta|`` over the baseline instead of
+    ``5 sigma``: for a baseline that holds a decaying offset), ``peak`` the
+    channel's largest instantaneous value near the event.  The onset is the
+    first sample that exceeds in some channel that also exceeds in at least
+    two more of the following seven samples (a lone spike is not an onset).
+    """
+    d = np.atleast_2d(np.asarray(delta, dtype=float))
+    a, b = max(search[0], 0), min(search[1], d.shape[-1])
+    if b - a < 1:
+        return None
+    b0, b1 = max(baseline[0], 0), max(min(baseline[1], d.shape[-1]), 0)
+    level = np.zeros(d.shape[0])
+    if b1 - b0 >= 4:
+        base = d[:, b0:b1]
+        base = np.where(np.isfinite(base), base, 0.0)
+        if baseline_max:
+            level = 1.2 * np.max(np.abs(base), axis=1)
+        else:
+            med = np.median(base, axis=1, keepdims=True)
+            level = ONSET_SIGMAS * 1.4826 * np.median(np.abs(base - med), axis=1)
+    pk = np.zeros(d.shape[0]) if peak is None else np.asarray(peak, dtype=float)
+    thr = level + ONSET_REL * pk
+    seg = np.abs(d[:, a:min(b + 7, d.shape[-1])])
+    seg = np.where(np.isfinite(seg), seg, 0.0)
+    over = seg > thr[:, None]
+    width = min(8, over.shape[1])
+    c = np.cumsum(np.pad(over, ((0, 0), (1, 0))), axis=1)
+    cnt = c[:, width:] - c[:, :-width]                 # exceedances in [k, k + width - 1]
+    need = 3 if width >= 8 else 1
+    okc = over[:, :cnt.shape[1]] & (cnt >= need)
+    hits = np.nonzero(okc.any(axis=0)[:b - a])[0]
+    if not hits.size:
+        return None
+    k = a + int(hits[0])
+    # step back over samples that already depart from the noise (2.5 sigma plus a
+    # quarter of the relative term, same sign)
+    # in a channel that triggered, at most three samples
+    chans = np.nonzero(okc[:, k - a])[0]
+    low = (0.5 * level if not baseline_max else level) + 0.25 * ONSET_REL * pk
+    for _ in range(3):
+        j = k - 1
+        if j < max(a - 3, 0):
+            break
+        dj, dk = d[chans, j], d[chans, k]
+        if np.any(np.isfinite(dj) & (np.abs(dj) > low[chans]) & (np.sign(dj) == np.sign(dk))):
+            k = j
+        else:
+            break
+    return k
+
+
+def pole_events(time_s, i_abc, samples_per_cycle: int, floor_a: float = 0.0,
+                start_index: int = 0) -> tuple[PoleEvent, ...]:
+    """Pole openings and closings per phase from the phase currents.
+
+    A pole is open from the first sample after which ``|i|`` stays under its
+    threshold for at least half a cycle, until ``|i|`` exceeds it again.  The
+    threshold is ``max(floor_a, 0.03 * max|i|)`` per phase.
+
+    Parameters
+    ----------
+    time_s : (n,) [s]
+    i_abc : (3, n) [A]
+    samples_per_cycle : int
+    floor_a : float
+        Absolute floor [A] (a few noise standard deviations).
+    start_index : int
+        Only events at or after this sample are reported.
+    """
+    i = np.abs(np.asarray(i_abc, dtype=float))
+    n = int(samples_per_cycle)
+    half = max(n // 2, 2)
+    out = []
+    for p in range(3):
+        x = i[p]
+        peak = float(np.nanmax(x[start_index:])) if x[start_index:].size else 0.0
+        thr = max(floor_a, OPEN_REL * peak)
+        below = x <= thr
+        # quiet[k]: samples k .. k+half-1 are all below
+        c = np.concatenate([[0], np.cumsum(below)])
+        quiet = np.zeros_like(below)
+        m = below.size - half + 1
+        if m > 0:
+            quiet[:m] = (c[half:] - c[:-half]) == half
+        state_open = False
+        k = start_index
+        # walk the (few) transitions: vectorised searches, not a loop over samples
+        while k < below.size:
+            if not state_open:
+                cand = np.nonzero(quiet[k:])[0]
+                if not cand.size:
+                    break
+                k = k + int(cand[0])
+                if k > start_index or not below[max(k - 1, 0)]:
+                    out.append(PoleEvent(PHASES[p], "open", float(time_s[k]), k))
+                state_open = True
+            else:
+                cand = np.nonzero(~below[k:])[0]
+                if not cand.size:
+                    break
+                k = k + int(cand[0])
+                out.append(PoleEvent(PHASES[p], "close", float(time_s[k]), k))
+                state_open = False
+    return tuple(sorted(out, key=lambda e: (e.index, e.phase)))
+
+
+def status_edges(time_s, channels: Sequence, role: str) -> tuple[StatusEdge, ...]:
+    """Edges of status channels (objects with ``name``, ``values`` 0/1, ``normal``)."""
+    out = []
+    for ch in channels:
+        v = np.asarray(ch.values).astype(np.int8)
+        ks = np.nonzero(np.diff(v))[0] + 1
+        normal = int(getattr(ch, "normal", 0))
+        for k in ks:
+            out.append(StatusEdge(str(ch.name), role, float(time_s[k]), int(k), int(v[k]),
+                                  int(v[k]) != normal))
+    return tuple(sorted(out, key=lambda e: e.index))
+
+
+def fault_indicator(v_ph, i_ph, live, v1_ref: float, i_scale: float) -> np.ndarray:
+    """Per-sample True where the phasors show a shunt fault.
+
+    Parameters
+    ----------
+    v_ph, i_ph : complex (3, n)
+        Phasors [V], [A] (NaN where undefined).
+    live : bool (n,)
+        Some pole carries current (voltage criteria only then).
+    v1_ref : float
+        Healthy positive-sequence voltage [V] (0: no voltage criteria).
+    i_scale : float
+        Current scale [A]: max of the pre-event ``|I1|`` and 5 % of the largest
+        phase current phasor; the unbalance criteria need ``|I2|`` or ``|I0|``
+        above 5 % of it and above 10 % of ``max(|I1|, i_scale)``.
+
+    Notes
+    -----
+    Fault if ``|I2|`` or ``|I0|`` > 0.1 max(|I1|, scale), or, with a live
+    pole, ``|V1| < 0.9 V1ref`` or ``|V2|``, ``|V0|`` > 0.05 ``V1ref``
+    (common practice, no source).
+    """
+    i012 = abc_to_012(np.nan_to_num(i_ph))
+    m0, m1, m2 = np.abs(i012)
+    base = np.maximum(m1, i_scale)
+    floor = 0.05 * i_scale
+    f = ((m2 > NEG_ZERO_RATIO * base) & (m2 > floor)) | ((m0 > NEG_ZERO_RATIO * base)
+                                                          & (m0 > floor))
+    if v1_ref > 0:
+        v012 = abc_to_012(np.nan_to_num(v_ph))
+        vm0, vm1, vm2 = np.abs(v012)
+        f |= live & ((vm1 < V_SAG * v1_ref) | (vm2 > V_UNBAL * v1_ref)
+                     | (vm0 > V_UNBAL * v1_ref))
+    f &= np.isfinite(i_ph).all(axis=0)
+    return f
+
+
+def _runs(mask: np.ndarray, min_len: int, max_gap: int) -> list[tuple[int, int]]:
+    """(start, stop) of True runs, gaps up to ``max_gap`` closed, runs under ``min_len`` dropped."""
+    m = np.asarray(mask, dtype=bool)
+    if not m.any():
+        return []
+    d = np.diff(np.concatenate([[0], m.astype(np.int8), [0]]))
+    starts = list(np.nonzero(d == 1)[0])
+    stops = list(np.nonzero(d == -1)[0])
+    merged = []
+    for s, e in zip(starts, stops, strict=True):
+        if merged and s - merged[-1][1] <= max_gap:
+            merged[-1] = (merged[-1][0], e)
+        else:
+            merged.append((s, e))
+    return [(int(s), int(e)) for s, e in merged if e - s >= min_len]
+
+
+# ------------------------------------------------------------------ the timeline
+def build_timeline(time_s, v_abc, i_abc, samples_per_cycle: int, *,
+                   trips: Sequence = (), breakers: Sequence = (),
+                   v_ph=None, i_ph=None, mitigate_offset: bool = True,
+                   tau_s: float | None = None) -> Timeline:
+    """Timeline, windows and classification of one terminal.
+
+    Parameters
+    ----------
+    time_s : array (n,)
+        Sample times [s] from the record's first sample (uniform rate).
+    v_abc, i_abc : array (3, n)
+        Phase-to-ground voltages [V] and phase currents [A].
+    samples_per_cycle : int
+        Samples per nominal cycle.
+    trips, breakers : sequences of status channels
+        Objects with ``name``, ``values`` and ``normal`` (``StatusChannel``).
+    v_ph, i_ph : complex (3, n), optional
+        Full-cycle DFT phasors if already computed (else computed here).
+    mitigate_offset : bool
+        Fault-window current phasors through the mimic filter (time constant
+        ``tau_s`` if given, e.g. from the line's X/R, else estimated from the
+        record, see :func:`~eventlab.signals.phasors.estimate_decay_tau`).
+    tau_s : float, optional
+        Offset time constant [s].
+
+    Returns
+    -------
+    Timeline
+    """
+    t = np.asarray(time_s, dtype=float)
+    v = np.asarray(v_abc, dtype=float)
+    i = np.asarray(i_abc, dtype=float)
+    n = int(samples_per_cycle)
+    n_t = t.size
+    if v.shape != (3, n_t) or i.shape != (3, n_t):
+        raise SignalError(f"v_abc {v.shape} and i_abc {i.shape}: expected (3, {n_t})")
+    if n_t < 3 * n:
+        raise SignalError(f"record of {n_t} samples: expected at least three cycles "
+                          f"({3 * n} samples)")
+    dt = float(np.median(np.diff(t)))
+    fs = 1.0 / dt
+    flags: list[str] = []
+    v_ph = dft_phasors(v, n) if v_ph is None else np.asarray(v_ph)
+    i_ph = dft_phasors(i, n) if i_ph is None else np.asarray(i_ph)
+
+    # references from the first full window and the record as a whole
+    k_ref = n - 1
+    v1_all = np.abs(abc_to_012(np.nan_to_num(v_ph[:, n - 1:]))[1])
+    v1_first = float(v1_all[0])
+    v1_med = float(np.median(v1_all))
+    v1_ref = v1_first if v1_first >= 0.5 * v1_med else v1_med
+    i1_first = float(abs(abc_to_012(i_ph[:, k_ref])[1]))
+    i_peak_ph = float(np.nanmax(np.abs(i_ph[:, n - 1:])))
+    i_scale = max(i1_first, 0.05 * i_peak_ph, 1e-12)
+
+    d_i = superimposed(i, n)
+    d_v = superimposed(v, n)
+    # noise of each current from the superimposed value over the first steady cycle
+    noise_i = 1.4826 * np.median(np.abs(d_i[:, n:2 * n]), axis=1) / np.sqrt(2)
+    floor_a = max(6.0 * float(noise_i.max()), 1e-9)
+    poles = pole_events(t, i, n, floor_a=floor_a)
+    # live[k]: some pole carries current
+    live = np.zeros(n_t, dtype=bool)
+    for p in range(3):
+        st = np.ones(n_t, dtype=bool)
+        for e in poles:
+            if e.phase == PHASES[p]:
+                st[e.index:] = e.kind == "close"
+        live |= st
+    fault = fault_indicator(v_ph, i_ph, live, v1_ref, i_scale)
+    runs = _runs(fault, min_len=max(n // 4, 2), max_gap=n // 2)
+
+    edges = status_edges(t, trips, "trip") + status_edges(t, breakers, "breaker")
+    edges = tuple(sorted(edges, key=lambda e: e.index))
+
+    intervals: list[FaultInterval] = []
+    prev_end = n
+    chans = np.vstack([d_v, d_i])
+    raw = np.vstack([v, i])
+    for a, b in runs:
+        # search back up to two cycles from where the phasors saw the fault; the
+        # cycle before the search is the baseline (noise, off-nominal residual)
+        s0 = max(a - 2 * n, prev_end + n, 2 * n)
+        search = (min(s0, a), a + 1)
+        base = (search[0] - n, search[0])
+        lo, hi = max(a - 2 * n, 0), min(b + n, n_t)
+        peak = np.nanmax(np.abs(raw[:, lo:hi]), axis=1)
+        k_on = detect_onset(chans, search, base, peak)
+        if k_on is None:
+            k_on = max(a - n + 1, 1)
+            flags.append(f"inception near {t[k_on]:.4f} s estimated from phasors "
+                         f"(no clear superimposed step)")
+        if k_on <= n:
+            flags.append("the record starts in a fault: no pre-fault cycle")
+        kind = "fault"
+        if any(e.kind == "close" and prev_end - n <= e.index <= k_on + n // 4 for e in poles) \
+                and intervals:
+            kind = "reclose"
+        stages = _stages(t, v, i, v_ph, i_ph, n, fs, k_on, b, poles, kind, mitigate_offset,
+                         tau_s, d_v, d_i, peak, flags)
+        intervals.extend(stages)
+        last = stages[-1]
+        prev_end = (last.end_index if last.end_index is not None else b) + n // 2
+
+    if not intervals:
+        return Timeline(None, None, None, None, None, None, _first_trip(edges, None),
+                        (None, None, None), (), poles, edges, tuple(flags), NO_FAULT)
+
+    # drop "faults" that the classifier calls no fault (load change, switching)
+    real = [iv for iv in intervals if iv.type != NO_FAULT]
+    if not real:
+        flags.append("disturbance without a shunt fault: " +
+                     "; ".join(f"{iv.start_s:.4f} s {iv.classification.reason}"
+                               for iv in intervals))
+        return Timeline(None, None, None, None, None, None, _first_trip(edges, None),
+                        (None, None, None), (), poles, edges, tuple(flags), NO_FAULT)
+    intervals = real
+    first = intervals[0]
+    # the first fault and its evolutions end together
+    group = [first]
+    for iv in intervals[1:]:
+        if iv.kind == "evolved":
+            group.append(iv)
+        else:
+            break
+    inception = first.start_s
+    clearing = group[-1].end_s
+    trip_s = _first_trip(edges, inception - 1.0 / (fs / n))
+    duration_ms = None if clearing is None else 1e3 * (clearing - inception)
+    f0 = fs / n
+    relay_ms = None if trip_s is None else 1e3 * (trip_s - inception)
+    brk_ms = None if (trip_s is None or clearing is None) else 1e3 * (clearing - trip_s)
+    if clearing is None:
+        flags.append("the fault is still on at the end of the record")
+    return Timeline(
+        inception_s=inception, clearing_s=clearing, duration_ms=duration_ms,
+        duration_cycles=None if duration_ms is None else duration_ms * 1e-3 * f0,
+        relay_time_ms=relay_ms, breaker_time_ms=brk_ms, trip_s=trip_s,
+        pole_open_s=group[-1].pole_open_s, intervals=tuple(intervals), poles=poles,
+        edges=edges, flags=tuple(flags), fault_type=first.type)
+
+
+def _first_trip(edges, after_s):
+    for e in edges:
+        if e.role == "trip" and e.asserted and (after_s is None or e.time_s >= after_s):
+            return e.time_s
+    return None
+
+
+def _classify_at(t, v, i, v_ph, i_ph, n, fs, k_pre_win, win: Window, tau_s, mitigate):
+    i_pre = i_ph[:, k_pre_win.end_index] if k_pre_win is not None else np.zeros(3, complex)
+    v_pre = v_ph[:, k_pre_win.end_index] if k_pre_win is not None else None
+    k = win.end_index
+    if mitigate and tau_s is not None and k >= n:
+        i_f = window_phasor(i, k, n, tau_samples=tau_s * fs)
+    else:
+        i_f = i_ph[:, k]
+    v_f = v_ph[:, k]
+    if v_pre is not None and np.abs(v_pre).max() <= 0:
+        v_pre = None
+    c = classify_fault(i_pre, i_f, v_pre, None if v_pre is None else v_f)
+    return c, i_pre, v_pre if v_pre is not None else np.zeros(3, complex), i_f, v_f
+
+
+def _stages(t, v, i, v_ph, i_ph, n, fs, k_on, run_end, poles, kind, mitigate, tau_given,
+            d_v, d_i, peak, flags) -> list[FaultInterval]:
+    """The interval(s) of one disturbance: the fault and, if it evolves, its later stages."""
+    n_t = t.size
+    pre = prefault_window(t, k_on, n)
+    if pre is not None and pre.flagged:
+        flags.append(pre.note)
+    # pole openings after inception (the first of each phase)
+    opens = [None, None, None]
+    for e in poles:
+        p = PHASES.index(e.phase)
+        if e.kind == "open" and e.index > k_on and opens[p] is None \
+                and e.index <= run_end + 2 * n:
+            opens[p] = e.index
+    first_open = min([k for k in opens if k is not None], default=None)
+    stop = first_open if first_open is not None else min(run_end, n_t)
+    tau = tau_given
+    if mitigate and tau is None:
+        tau = estimate_decay_tau(i, n, fs, k_on + 1) if stop - k_on >= 2 * n else None
+    win = fault_window(t, k_on, stop, n)
+    c, i_pre, v_pre, i_f, v_f = _classify_at(t, v, i, v_ph, i_ph, n, fs, pre, win, tau, mitigate)
+    if win.flagged:
+        flags.append(f"fault at {t[k_on]:.4f} s: {win.note}")
+    # evolving fault: classify each half cycle after the fault window, before the opening
+    bounds = [(k_on, c, win, i_f, v_f)]
+    k = win.end_index + n // 2
+    pending = None
+    while c.type != NO_FAULT and k < stop - 2:
+        ck = classify_fault(i_pre, i_ph[:, k], None if pre is None else v_pre,
+                            None if pre is None else v_ph[:, k])
+        cur = bounds[-1][1].type
+        if ck.type != cur and ck.type != NO_FAULT:
+            if pending is not None and pending[1] == ck.type:
+                # confirmed: find the onset of the new stage before the first new window
+                # the delta compares fault with fault only a cycle after the last
+                # stage began; half a cycle of that is the baseline
+                k_prev = bounds[-1][0]
+                s0 = max(pending[0] - 2 * n, k_prev + n + n // 2)
+                k_ev = detect_onset(np.vstack([d_v, d_i]), (s0, pending[0] + 1),
+                                    (s0 - n // 2, s0), peak, baseline_max=True
+                                    ) if s0 <= pending[0] else None
+                if k_ev is None:
+                    k_ev = max(pending[0] - n + 1, k_prev + 1)
+                    flags.append(f"evolving fault near {t[k_ev]:.4f} s: onset estimated "
+                                 f"from phasors")
+                if len(bounds) == 1 and bounds[0][2].end_index >= k_ev - 1:
+                    # the first stage's window reached into the next stage: redo it
+                    w1 = fault_window(t, k_on, k_ev, n)
+                    c1, _, _, i1, v1 = _classify_at(t, v, i, v_ph, i_ph, n, fs, pre, w1,
+                                                    tau, mitigate)
+                    if c1.type != NO_FAULT:
+                        bounds[0] = (k_on, c1, w1, i1, v1)
+                        cur = c1.type
+                w2 = fault_window(t, k_ev, stop, n, settle_cycles=0.5)
+                c2, _, _, i2, v2 = _classify_at(t, v, i, v_ph, i_ph, n, fs, pre, w2, None,
+                                                False)
+                if c2.type == NO_FAULT or c2.type == cur:
+                    c2 = ck
+                bounds.append((k_ev, c2, w2, i2, v2))
+                pending = None
+                k = w2.end_index + n // 2
+                continue
+            pending = (k, ck.type)
+        else:
+            pending = None
+        k += n // 2
+    # end of the disturbance
+    if c.type != NO_FAULT:
+        ph_all = sorted({p for _, cc, _, _, _ in bounds if cc.type != NO_FAULT
+                         for p in faulted_phases(cc.type)})
+    else:
+        ph_all = []
+    faulted_open = [opens[p] for p in ph_all]
+    if ph_all and all(o is not None for o in faulted_open):
+        k_end = max(faulted_open)
+        by_poles = True
+    else:
+        # no pole opening here: the fault ended (remote clearing) about a window before
+        # the phasor indicator dropped
+        k_end = run_end - n // 2 if run_end < n_t else None
+        by_poles = False
+        if c.type != NO_FAULT and k_end is not None:
+            flags.append(f"fault at {t[k_on]:.4f} s: end estimated from phasors (no pole "
+                         f"opening of the faulted phases at this terminal)")
+    pole_s = tuple(None if o is None else float(t[o]) for o in opens)
+    out = []
+    for j, (ks, cc, ww, ii, vv) in enumerate(bounds):
+        ke = bounds[j + 1][0] if j + 1 < len(bounds) else k_end
+        out.append(FaultInterval(
+            kind=kind if j == 0 else "evolved", type=cc.type,
+            start_s=_onset_time(t, ks),
+            end_s=None if ke is None else (_onset_time(t, ke) if j + 1 < len(bounds)
+                                           else float(t[ke])),
+            start_index=int(ks), end_index=None if ke is None else int(ke),
+            classification=cc, prefault=pre, fault=ww, pole_open_s=pole_s,
+            cleared_by_poles=by_poles and j + 1 == len(bounds),
+            tau_s=tau if j == 0 else None, i_prefault=_ro(i_pre), v_prefault=_ro(v_pre),
+            i_fault=_ro(ii), v_fault=_ro(vv)))
+    return out
+
+
+def _onset_time(t, k: int) -> float:
+    """Inception time [s]: half a sample before the first sample that shows the fault."""
+    if k <= 0:
+        return float(t[0])
+    return float(0.5 * (t[k - 1] + t[k]))
+
+
+def _ro(x) -> np.ndarray:
+    a = np.array(x, dtype=complex, copy=True)
+    a.setflags(write=False)
+    return a

@@ -1,0 +1,59 @@
+"""Classification of steady fault phasors made from the sequence-network connections."""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+from faultwaves import System, steady_phasors
+
+from eventlab.faulttypes import FAULT_TYPES, NO_FAULT
+from eventlab.signals.classify import classify_fault
+
+
+@pytest.mark.parametrize("ftype", FAULT_TYPES)
+@pytest.mark.parametrize("fraction", [0.05, 0.5, 0.95])
+@pytest.mark.parametrize("r_fault_ohm", [0.0, 10.0])
+def test_every_type_from_sequence_networks(ftype, fraction, r_fault_ohm):
+    s = System()
+    v_pre, i_pre = steady_phasors(s, fraction, None)
+    v_f, i_f = steady_phasors(s, fraction, ftype, r_fault_ohm)
+    c = classify_fault(i_pre, i_f, v_pre, v_f)
+    assert c.type == ftype, c.reason
+    assert 0.5 <= c.confidence <= 1.0
+    assert c.basis == "currents"
+    # also from currents alone
+    assert classify_fault(i_pre, i_f).type == ftype
+
+
+@pytest.mark.parametrize("ftype", FAULT_TYPES)
+def test_weak_infeed_uses_voltages(ftype):
+    # local source nearly absent (large impedance): local superimposed currents are tiny
+    s = System(zs=(4000 + 40000j, 2000 + 20000j), load_angle_deg=2.0)
+    v_pre, i_pre = steady_phasors(s, 0.5, None)
+    v_f, i_f = steady_phasors(s, 0.5, ftype)
+    c = classify_fault(i_pre, i_f, v_pre, v_f, min_current_a=50.0)
+    assert c.basis == "voltages"
+    assert c.type == ftype, c.reason
+
+
+def test_load_change_is_no_fault():
+    s = System()
+    v_pre, i_pre = steady_phasors(s, 0.5, None)
+    s2 = System(load_angle_deg=20.0)
+    v2, i2 = steady_phasors(s2, 0.5, None)
+    c = classify_fault(i_pre, i2, v_pre, v2 * abs(v_pre[0]) / abs(v2[0]))
+    assert c.type == NO_FAULT
+
+
+def test_no_change_is_no_fault():
+    i = np.array([100, 100 * np.exp(-2j * np.pi / 3), 100 * np.exp(2j * np.pi / 3)])
+    assert classify_fault(i, i).type == NO_FAULT
+
+
+def test_to_dict_is_plain():
+    s = System()
+    v_pre, i_pre = steady_phasors(s, 0.3, None)
+    v_f, i_f = steady_phasors(s, 0.3, "BG")
+    d = classify_fault(i_pre, i_f, v_pre, v_f).to_dict()
+    assert d["type"] == "BG" and d["ground"] is True
+    assert -180 <= d["evidence"]["angle_x2_x0_deg"] <= 180

@@ -1,0 +1,145 @@
+"""Timeline on numpy-made faults: inception, clearing, trip, intervals, windows."""
+
+from __future__ import annotations
+
+from types import SimpleNamespace
+
+import numpy as np
+import pytest
+from faultwaves import Event, Scenario, System, fault_event, make_event
+
+from eventlab.faulttypes import FAULT_TYPES, NO_FAULT, faulted_phases
+from eventlab.signals.timeline import build_timeline, superimposed
+
+
+def _timeline(e, **kw):
+    trips = [SimpleNamespace(name="TRIP", values=e["trip"], normal=0)]
+    bkrs = [SimpleNamespace(name="52A", values=e["breaker"], normal=1)]
+    return build_timeline(e["t"], e["v_abc"], e["i_abc"], e["samples_per_cycle"],
+                          trips=trips, breakers=bkrs, **kw)
+
+
+# inception angles: 0.0500 s is a voltage zero of phase A at 60 Hz (3 cycles), the others
+# 45 and 110 degrees later
+INCEPTIONS = [0.0500, 0.0500 + 45 / 360 / 60, 0.0500 + 110 / 360 / 60]
+
+
+@pytest.mark.parametrize("ftype", FAULT_TYPES)
+@pytest.mark.parametrize("inception_s", INCEPTIONS)
+def test_clean_inception_within_one_sample_and_type(ftype, inception_s):
+    e = fault_event(ftype, inception_s)
+    tl = _timeline(e)
+    dt = 1 / e["fs_hz"]
+    truth = e["truth"]
+    # task requirement: within one sample on clean records
+    assert abs(tl.inception_s - truth["inception_s"]) <= dt
+    assert tl.fault_type == ftype
+    assert len(tl.intervals) == 1
+    # clearing = last opening of the faulted phases (poles open at current zeros)
+    want = max(truth["open_s"][p] for p in faulted_phases(ftype))
+    assert abs(tl.clearing_s - want) <= 3 * dt
+    for p in range(3):
+        assert abs(tl.pole_open_s[p] - truth["open_s"][p]) <= 3 * dt
+    assert tl.relay_time_ms == pytest.approx(1e3 * (truth["trip_s"] - tl.inception_s), abs=1e-9)
+    assert tl.duration_ms == pytest.approx(1e3 * (tl.clearing_s - tl.inception_s))
+    assert tl.duration_cycles == pytest.approx(tl.duration_ms * 60 / 1e3)
+    assert tl.breaker_time_ms == pytest.approx(1e3 * (tl.clearing_s - truth["trip_s"]))
+    iv = tl.intervals[0]
+    assert iv.prefault.end_index <= iv.start_index - e["samples_per_cycle"]
+    assert iv.fault.start_index > iv.start_index
+    assert iv.fault.end_index < min(i for i in (round(s * e["fs_hz"]) for s in truth["open_s"]))
+
+
+@pytest.mark.parametrize("ftype", FAULT_TYPES)
+@pytest.mark.parametrize("inception_s", INCEPTIONS)
+@pytest.mark.parametrize("seed", [0, 1, 2])
+def test_noisy_inception_within_half_ms_and_type(ftype, inception_s, seed):
+    # noise: 0.5 % of nominal peak on every channel (seeded)
+    e = fault_event(ftype, inception_s, noise=0.005, seed=seed)
+    tl = _timeline(e)
+    assert abs(tl.inception_s - e["truth"]["inception_s"]) <= 0.5e-3
+    assert tl.fault_type == ftype
+
+
+@pytest.mark.parametrize("n", [16, 32, 128])
+def test_other_sample_rates(n):
+    e = fault_event("CAG", 0.0512, samples_per_cycle=n)
+    tl = _timeline(e)
+    assert abs(tl.inception_s - e["truth"]["inception_s"]) <= 1 / e["fs_hz"]
+    assert tl.fault_type == "CAG"
+
+
+def test_fifty_hertz_system():
+    e = fault_event("BG", 0.061, system=System(f0_hz=50.0))
+    tl = _timeline(e)
+    assert tl.fault_type == "BG"
+    assert tl.duration_cycles == pytest.approx(tl.duration_ms * 50 / 1e3)
+
+
+def test_evolving_fault_gives_two_intervals():
+    sc = Scenario(events=[Event("AG", 0.0503), Event("ABG", 0.0503 + 0.030)],
+                  relay_time_s=0.045, breaker_time_s=0.040)
+    e = make_event(sc)
+    tl = _timeline(e)
+    assert [iv.type for iv in tl.intervals] == ["AG", "ABG"]
+    assert [iv.kind for iv in tl.intervals] == ["fault", "evolved"]
+    assert abs(tl.intervals[1].start_s - 0.0803) <= 0.5e-3
+    assert tl.intervals[0].end_s == tl.intervals[1].start_s
+    assert tl.fault_type == "AG"
+    # the overall clearing is that of the evolved fault (phases A and B)
+    want = max(e["truth"]["open_s"][p] for p in (0, 1))
+    assert abs(tl.clearing_s - want) <= 3 / e["fs_hz"]
+
+
+def test_reclose_onto_fault_gives_second_interval():
+    sc = Scenario(events=[Event("BC", 0.0503)], reclose_s=0.30, duration_s=0.50)
+    e = make_event(sc)
+    tl = _timeline(e)
+    assert [iv.kind for iv in tl.intervals] == ["fault", "reclose"]
+    assert [iv.type for iv in tl.intervals] == ["BC", "BC"]
+    assert abs(tl.intervals[1].start_s - e["truth"]["reclose_s"]) <= 1 / e["fs_hz"]
+    # the headline clearing is the first fault's
+    assert tl.clearing_s < 0.2
+
+
+def test_reclose_without_fault_is_not_a_fault():
+    sc = Scenario(events=[Event("AG", 0.0503)], reclose_s=0.30, reclose_fault=False,
+                  duration_s=0.50)
+    tl = _timeline(make_event(sc))
+    assert [iv.kind for iv in tl.intervals] == ["fault"]
+
+
+def _steady(n_cycles=15, n=64, load_change_at=None, energise_at=None, noise=0.0):
+    s = System()
+    fs = n * s.f0_hz
+    t = np.arange(n_cycles * n) / fs
+    a = np.exp(-2j * np.pi / 3)
+    v = np.sqrt(2) * np.real(s.v_ln_rms * np.array([1, a, a * a])[:, None]
+                             * np.exp(2j * np.pi * 60 * t))
+    i = np.sqrt(2) * np.real(300 * np.exp(-0.3j) * np.array([1, a, a * a])[:, None]
+                             * np.exp(2j * np.pi * 60 * t))
+    if load_change_at is not None:
+        i[:, t >= load_change_at] *= 1.8
+    if energise_at is not None:
+        i[:, t < energise_at] = 0.0
+    rng = np.random.default_rng(4)
+    v += rng.normal(scale=noise * s.v_ln_rms, size=v.shape)
+    i += rng.normal(scale=noise * 300, size=i.shape)
+    return t, v, i, n
+
+
+@pytest.mark.parametrize("case", ["recorder test", "load change", "energisation"])
+def test_records_without_a_fault(case):
+    kw = {"recorder test": {"noise": 0.002}, "load change": {"load_change_at": 0.1},
+          "energisation": {"energise_at": 0.1}}[case]
+    t, v, i, n = _steady(**kw)
+    tl = build_timeline(t, v, i, n)
+    assert tl.fault_type == NO_FAULT
+    assert tl.inception_s is None and tl.clearing_s is None and tl.duration_ms is None
+
+
+def test_superimposed_is_zero_in_steady_state():
+    t, v, i, n = _steady()
+    d = superimposed(i, n)
+    assert np.isnan(d[:, :n]).all()
+    assert np.nanmax(np.abs(d)) < 1e-9 * 300
