@@ -252,8 +252,8 @@ class _Builder:
         ys = tuple(np.zeros((n, n), dtype=complex) for _ in range(3))
         for el in self.elements:
             ix = np.ix_(el.idx, el.idx)
-            for s in range(3):
-                ys[s][ix] += el.y[s]
+            for s in range(3):  # add.at: a coupled pair repeats its end nodes
+                np.add.at(ys[s], ix, el.y[s])
         inj = np.zeros(n, dtype=complex)
         sources = []
         for src in self.model.sources:
