@@ -110,7 +110,7 @@ def events() -> list[Event]:
             line="VM-CR1", fraction=0.06, type="AG", r_fault_ohm=0.3, inception_s=0.1,
             inception_angle_deg=0.0, relay_time_s=0.020, clear_after_s=0.085,
             duration_s=0.35, ct_ratio=(600.0, 5.0),
-            ct_saturation=CtSaturation(knee_voltage_v=80.0, burden_ohm=2.0,
+            ct_saturation=CtSaturation(knee_voltage_v=200.0, burden_ohm=2.5,
                                        magnetising_current_a=0.05),
             ct_saturation_at=("VELLMOOR-VM-CR1",), noise=0.001, seed=19,
             start=_start(22, 9, 48, 13, 330000)),
@@ -138,14 +138,14 @@ def _route(path: Path, rng, segments, start_ll, end_ll) -> None:
     0.35-0.45 km) or "cable" (joint bays every 0.8-1.0 km).
     """
     total = sum(s[0] for s in segments)
-    rows = []
+    rows = [("GANTRY-START", 0.0)]
     pos = 0.0
     counters: dict[str, int] = {}
     for length, kind, prefix in segments:
         end = pos + length
         lo, hi = (0.35, 0.45) if kind == "tower" else (0.8, 1.0)
         d = pos
-        first = True
+        first = pos > 0.0
         while True:
             if not first:
                 d += rng.uniform(lo, hi)
@@ -156,7 +156,6 @@ def _route(path: Path, rng, segments, start_ll, end_ll) -> None:
             rows.append((f"{prefix}{counters[prefix]:03d}", d))
         pos = end
     rows.append(("GANTRY-END", total))
-    rows[0] = ("GANTRY-START", 0.0)
     with path.open("w", newline="", encoding="utf-8") as fh:
         w = csv.writer(fh, lineterminator="\n")
         w.writerow(["structure", "distance_km", "latitude", "longitude"])

@@ -704,7 +704,7 @@ def simulate(model: NetworkModel, spec: SimulationSpec) -> SimulationResult:
     trips = {_term_id(model, k): tuple(v) for k, v in trip_on.items()}
     truth = Truth(
         model=model.system.name, line=fline.id, type=spec.type, fraction=float(spec.fraction),
-        distance_km=float(distance_km) if spec.type != NO_FAULT else 0.0,
+        distance_km=round(float(distance_km), 6) if spec.type != NO_FAULT else 0.0,
         r_fault_ohm=float(spec.r_fault_ohm), r_ground_ohm=float(spec.r_ground_ohm),
         inception_s=inception_s, inception_angle_deg=inc_angle,
         trip_s=trips, pole_open_s=pole_open, reclose_s=reclose_s, clear_s=clear_s,
