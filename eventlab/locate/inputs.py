@@ -118,3 +118,39 @@ class TerminalPhasors:
         r = np.exp(1j * angle_rad)
         return replace(self, v_pre=self.v_pre * r, i_pre=self.i_pre * r,
                        v_fault=self.v_fault * r, i_fault=self.i_fault * r)
+
+
+def from_fault_interval(interval, *, station: str, frequency_hz: float,
+                        terminal_id: str | None = None, record_start: datetime | None = None,
+                        time0_s: float = 0.0, samples_per_cycle: int | None = None,
+                        i_parallel_residual: complex | None = None) -> TerminalPhasors:
+    """:class:`TerminalPhasors` from a signal-chain fault interval.
+
+    Parameters
+    ----------
+    interval : eventlab.signals.timeline.FaultInterval
+        Gives ``type``, ``start_s`` (inception), the pre-fault and fault
+        windows and their phasors ``v_prefault``, ``i_prefault``, ``v_fault``,
+        ``i_fault`` [V], [A].
+    station : str
+    frequency_hz : float
+        Nominal frequency [Hz] the DFT reference rotates at.
+    terminal_id : str, optional
+    record_start : datetime, optional
+        Absolute time of the record's first sample.
+    time0_s : float
+        Record time of the first sample [s]: the signal chain's DFT phasors
+        are referred to the nominal-frequency reference from sample 0
+        (:func:`eventlab.signals.phasors.dft_phasors`), so this is the
+        phasors' reference instant.
+    samples_per_cycle : int, optional
+    """
+    return TerminalPhasors(
+        terminal_id=terminal_id, station=station,
+        v_pre=interval.v_prefault, i_pre=interval.i_prefault,
+        v_fault=interval.v_fault, i_fault=interval.i_fault,
+        frequency_hz=frequency_hz, fault_type=interval.type,
+        inception_s=float(interval.start_s), phasor_time_s=float(time0_s),
+        record_start=record_start, samples_per_cycle=samples_per_cycle,
+        i_parallel_residual=i_parallel_residual,
+        window_start_s=float(interval.fault.start_s))

@@ -168,6 +168,31 @@ def two_ended_synchronised(local: TerminalPhasors, remote: TerminalPhasors, line
                            extra={"mismatch_v": float(best[1])})
 
 
+def _pick_root(roots, local, remote, line, v_l, i_l, v_r, i_r, delta_pre):
+    """Of two roots on the line keep the physical one.
+
+    The fault impedance ``V_f / I_f`` of the fault loop is resistive at the
+    true distance and not at the other root; for a (nearly) bolted fault, where
+    both look alike, the rotation must agree with the one the pre-fault
+    through current gives (``I_L,pre = -I_R,pre``).
+    """
+    zl = line.z1_ohm
+    loop = select_loop(local.fault_type)
+    scores = []
+    for r in roots:
+        z_r = line.z_to(r)[0]
+        rhs = v_r - (zl - z_r) * i_r
+        delta = float(np.angle((v_l - z_r * i_l) / rhs)) if abs(rhs) > 0 else 0.0
+        v_f = loop_voltage(local.v_fault, loop) - loop_drop(line, r, local.i_fault, loop)
+        i_f = loop_current(local.i_fault + remote.i_fault * np.exp(1j * delta), loop)
+        z_f = v_f / i_f if abs(i_f) > 0 else 0j
+        resistive = abs(z_f.imag) / max(abs(z_f), 1e-12 * abs(zl))
+        if abs(z_f) < 1e-3 * abs(zl) and delta_pre is not None:
+            resistive = abs(np.angle(np.exp(1j * (delta - delta_pre))))
+        scores.append((resistive, abs(r - line.length_km / 2), r))
+    return min(scores)[2]
+
+
 def two_ended_unsynchronised(local: TerminalPhasors, remote: TerminalPhasors,
                              line: LineData) -> LocatorEstimate:
     """Two-ended method without time alignment.
@@ -205,16 +230,10 @@ def two_ended_unsynchronised(local: TerminalPhasors, remote: TerminalPhasors,
     if roots:
         inside = [r for r in roots if 0.0 <= r <= length] or [
             min(roots, key=lambda r: min(abs(r), abs(r - length)))]
-        if len(inside) > 1 and delta_pre is not None:
-            # two roots on the line: keep the one whose rotation agrees with the
-            # rotation the pre-fault through current gives (I_L,pre = -I_R,pre)
-            def mismatch(r):
-                z_r = line.z_to(r)[0]
-                dl = np.angle((v_l - z_r * i_l) / (v_r - (zl - z_r) * i_r))
-                return abs(np.angle(np.exp(1j * (dl - delta_pre))))
-            d = min(inside, key=mismatch)
+        if len(inside) > 1:
+            d = _pick_root(inside, local, remote, line, v_l, i_l, v_r, i_r, delta_pre)
         else:
-            d = min(inside, key=lambda r: abs(r - length / 2))
+            d = inside[0]
     else:
         # a double root (both sides vanish at the fault: bolted three-phase fault)
         k = int(np.argmin(np.abs(vals)))

@@ -2,8 +2,6 @@
 
 from __future__ import annotations
 
-import pytest
-
 from eventlab.network.model import NetworkModel, model_from_dict
 
 
@@ -51,8 +49,3 @@ def two_source_model(*, load_angle_deg: float = 0.0, remote_z_scale: float = 1.0
         ],
     }
     return model_from_dict(data, source_name="<two_source_model>")
-
-
-@pytest.fixture
-def model():
-    return two_source_model(load_angle_deg=10.0)

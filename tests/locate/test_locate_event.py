@@ -1,0 +1,109 @@
+"""The entry point: pairing, the JSON contract, the answer stood behind, the caution."""
+
+from __future__ import annotations
+
+import dataclasses
+import json
+from datetime import datetime
+
+import pytest
+from locate_models import two_source_model
+
+from eventlab.errors import ModelError
+from eventlab.locate import CAUTION, LocateOptions, locate_event
+from eventlab.locate.model_link import phasors_from_solution
+from eventlab.network.faults import FaultSpec, solve_fault
+
+T0 = datetime(2025, 3, 14, 2, 17, 5, 120000)
+
+
+def _ends(model, fraction=0.42, code="BG", rf=2.5, **kw):
+    res = solve_fault(model, FaultSpec("L1", fraction, code, rf))
+    common = dict(keep_id=False, inception_s=0.1, phasor_time_s=0.0, record_start=T0,
+                  samples_per_cycle=64, **kw)
+    return (phasors_from_solution(res, model, "VM-L1", **common),
+            phasors_from_solution(res, model, "CR-L1", station="cardon_reach", **common))
+
+
+def test_contract_keys_two_ended():
+    model = two_source_model(load_angle_deg=9.0)
+    a, b = _ends(model)
+    out = locate_event(model, [a, b]).to_dict()
+    json.dumps(out)  # serialisable
+    loc = out["location"]
+    for key in ("distance_km", "fraction", "fault_resistance_ohm", "interval_km", "method",
+                "structures", "methods", "caution"):
+        assert key in loc
+    assert loc["method"] == "two_ended_sync"
+    assert loc["distance_km"] == pytest.approx(42.0, abs=1e-6)
+    assert loc["fraction"] == pytest.approx(0.42, abs=1e-8)
+    assert loc["fault_resistance_ohm"] == pytest.approx(2.5, abs=1e-6)
+    lo, hi = loc["interval_km"]
+    assert lo <= 42.0 <= hi
+    names = [m["method"] for m in loc["methods"]]
+    assert names == ["reactance", "takagi", "modified_takagi", "eriksson", "two_ended_unsync",
+                     "two_ended_sync", "model_fit"]
+    assert all("distance_km" in m for m in loc["methods"])
+    assert loc["caution"] == CAUTION and "energized" in CAUTION
+    rows = out["comparison"]
+    assert {(r["terminal"], r["quantity"]) for r in rows} >= {("VM-L1", "IB"), ("CR-L1", "VA")}
+    for r in rows:
+        assert set(r) >= {"terminal", "quantity", "measured", "computed", "ratio",
+                          "angle_diff_deg"}
+        assert len(r["measured"]) == 2 and len(r["computed"]) == 2
+    assert loc["verdict"][0].startswith("measured and computed")
+
+
+def test_single_end_stands_behind_the_fit():
+    model = two_source_model(load_angle_deg=-9.0)
+    a, _ = _ends(model, 0.8, "CA", 6.0)
+    rep = locate_event(model, [a])
+    assert rep.best.method == "model_fit"
+    assert rep.distance_km == pytest.approx(80.0, abs=0.01)
+    assert rep.to_dict()["location"]["fault_resistance_ohm"] == pytest.approx(6.0, abs=0.05)
+
+
+def test_distance_from_the_first_record():
+    model = two_source_model(load_angle_deg=9.0)
+    a, b = _ends(model, 0.3, "AG", 1.0)
+    rep = locate_event(model, [b, a])
+    assert rep.reference_terminal == "CR-L1"
+    assert rep.distance_km == pytest.approx(70.0, abs=1e-6)
+
+
+def test_unsynchronised_fallback_is_said():
+    model = two_source_model(load_angle_deg=9.0)
+    a, b = _ends(model, 0.55, "BC", 3.0)
+    b_late = dataclasses.replace(b, record_start=datetime(2025, 3, 14, 2, 17, 5, 160000))
+    rep = locate_event(model, [a, b_late])
+    assert rep.best.method == "two_ended_unsync"
+    assert not rep.sync.synchronised
+    assert any("not aligned" in n for n in rep.notes)
+    assert rep.distance_km == pytest.approx(55.0, abs=1e-6)
+
+
+def test_pairing_errors_name_what_was_found():
+    model = two_source_model()
+    a, _ = _ends(model)
+    with pytest.raises(ModelError, match="VM-L1"):
+        locate_event(model, [dataclasses.replace(a, station="PELLINGFORD")])
+    with pytest.raises(ModelError, match="unknown line"):
+        locate_event(model, [a], line="L9")
+    # explicit pairing
+    rep = locate_event(model, [dataclasses.replace(a, station="PELLINGFORD")],
+                       options=LocateOptions(terminal_map={"Pellingford": "VM-L1"}))
+    assert rep.reference_terminal == "VM-L1"
+
+
+def test_comparison_flags_reversed_ct():
+    model = two_source_model(load_angle_deg=9.0)
+    a, b = _ends(model, 0.5, "AG", 0.5)
+    # the remote end's currents wired reversed; the fit uses the reference end only
+    rep = locate_event(model, [a])
+    assert rep.comparison.agrees
+    from eventlab.locate.compare import comparison_rows, verdicts
+    from eventlab.locate.model_fit import computed_phasors
+    v, i = computed_phasors(rep.fit, [a], model.terminals[:1])[0]
+    rows = comparison_rows("VM-L1", dataclasses.replace(a, i_fault=-a.i_fault), v, i)
+    words = verdicts(rows, "AG")
+    assert any("polarity" in w for w in words)

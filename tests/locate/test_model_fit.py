@@ -1,0 +1,64 @@
+"""Model-matched fit on fault-solver phasors with seeded measurement noise."""
+
+from __future__ import annotations
+
+import dataclasses
+
+import numpy as np
+import pytest
+from locate_models import two_source_model
+
+from eventlab.errors import ModelError
+from eventlab.locate.model_fit import FitOptions, computed_phasors, fit_fault
+from eventlab.locate.model_link import phasors_from_solution
+from eventlab.network.faults import FaultSpec, solve_fault
+
+
+def _noisy(end, rng, rel):
+    def n(x):
+        return x * (1 + rel * (rng.standard_normal(3) + 1j * rng.standard_normal(3)))
+    return dataclasses.replace(end, v_fault=n(end.v_fault), i_fault=n(end.i_fault))
+
+
+@pytest.mark.parametrize("code, rf, rg", [("AG", 20.0, 0.0), ("BC", 4.0, 0.0),
+                                          ("CAG", 6.0, 3.0), ("ABC", 2.0, 0.0)])
+def test_fit_recovers_distance_resistance_and_remote_source(code, rf, rg):
+    truth = two_source_model(load_angle_deg=-12.0)
+    # the model the engineer has: remote source impedance written 40 % too low
+    written = two_source_model(load_angle_deg=-12.0, remote_z_scale=1 / 1.4)
+    res = solve_fault(truth, FaultSpec("L1", 0.72, code, rf, rg))
+    rng = np.random.default_rng(2024)
+    a = _noisy(phasors_from_solution(res, truth, "VM-L1"), rng, 0.001)
+    b = _noisy(phasors_from_solution(res, truth, "CR-L1"), rng, 0.001)
+    fit = fit_fault(written, "L1", [a, b], written.terminals, start_fraction=0.5)
+    assert fit.converged
+    assert fit.distance_km == pytest.approx(72.0, abs=0.3)
+    assert fit.r_fault_ohm == pytest.approx(rf, abs=0.05 * rf + 0.2)
+    assert fit.remote_z_scale == pytest.approx(1.4, rel=0.05)
+    assert fit.interval_km[0] <= 72.0 <= fit.interval_km[1]
+
+
+def test_single_end_fit_interval_holds_truth():
+    model = two_source_model(load_angle_deg=8.0)
+    res = solve_fault(model, FaultSpec("L1", 0.3, "BG", 30.0))
+    end = _noisy(phasors_from_solution(res, model, "VM-L1"), np.random.default_rng(7), 0.002)
+    fit = fit_fault(model, "L1", [end], model.terminals[:1], start_fraction=0.6)
+    assert fit.interval_km[0] <= 30.0 <= fit.interval_km[1]
+    assert abs(fit.distance_km - 30.0) < 1.0
+    # the Z0 tolerance is the main term of a single-ended ground-fault interval
+    assert fit.sigma_parts_km["line Z0"] == max(fit.sigma_parts_km.values())
+
+
+def test_computed_phasors_match_measured_for_exact_model():
+    model = two_source_model(load_angle_deg=8.0)
+    res = solve_fault(model, FaultSpec("L1", 0.45, "AB", 3.0))
+    ends = [phasors_from_solution(res, model, t.id) for t in model.terminals]
+    fit = fit_fault(model, "L1", ends, model.terminals)
+    for (v, i), e in zip(computed_phasors(fit, ends, model.terminals), ends, strict=True):
+        np.testing.assert_allclose(v, e.v_fault, rtol=1e-6)
+        np.testing.assert_allclose(i, e.i_fault, rtol=1e-6, atol=1e-3)
+
+
+def test_unknown_accuracy_class_rejected():
+    with pytest.raises(ModelError, match="ct_class"):
+        FitOptions(ct_class="7Q")
