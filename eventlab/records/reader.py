@@ -285,9 +285,10 @@ def read_record(path, values: str = "primary") -> Record:
     if ext == ".zip":
         return _read_zip(p, values)
     if ext == ".cff":
+        p = p if p.is_file() else (_sibling(p.with_suffix(""), ".cff") or p)
         return _read_cff_bytes(_read_bytes(_existing(p)), str(p), values)
     stem = p.with_suffix("") if ext in _EXTS else p
-    cfg = p if ext == ".cfg" else _sibling(stem, ".cfg")
+    cfg = p if ext == ".cfg" and p.is_file() else _sibling(stem, ".cfg")
     if cfg is None:
         cff = _sibling(stem, ".cff")
         if cff is not None and ext not in (".dat",):
@@ -295,7 +296,7 @@ def read_record(path, values: str = "primary") -> Record:
         raise RecordFormatError("no such record: expected a .cfg (or .cff) file here",
                                 path=str(stem.with_name(stem.name + ".cfg")))
     _existing(cfg)
-    dat = p if ext == ".dat" else _sibling(stem, ".dat")
+    dat = p if ext == ".dat" and p.is_file() else _sibling(stem, ".dat")
     if dat is None:
         raise RecordFormatError("no data file beside the configuration file; expected "
                                 f"{stem.name}.dat", path=str(cfg))

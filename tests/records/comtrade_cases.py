@@ -1,0 +1,65 @@
+"""Shared helpers for the record-layer tests: hand-written files and the reference reader.
+
+The reference is the ``comtrade`` package from PyPI (``comtrade.load`` with
+``use_numpy_arrays=True``; ``use_double_precision=True`` so that its values
+are float64 like eventlab's and can be compared for equality).
+"""
+
+from __future__ import annotations
+
+import warnings
+from pathlib import Path
+
+import comtrade
+import numpy as np
+
+
+def write_case(folder: Path, stem: str, cfg_text: str, dat: bytes | str) -> Path:
+    """Write ``stem.cfg`` and ``stem.dat`` into ``folder``; return the .cfg path."""
+    cfg = folder / f"{stem}.cfg"
+    cfg.write_bytes(cfg_text.encode("utf-8") if isinstance(cfg_text, str) else cfg_text)
+    (folder / f"{stem}.dat").write_bytes(dat.encode("ascii") if isinstance(dat, str) else dat)
+    return cfg
+
+
+def load_reference(path) -> comtrade.Comtrade:
+    """The independent reference: the ``comtrade`` package, float64 numpy arrays."""
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")  # its own notices (nanoseconds, revision)
+        return comtrade.load(str(path), use_numpy_arrays=True, use_double_precision=True)
+
+
+def assert_matches_reference(record, ref) -> None:
+    """Every value and field the reference reads equals eventlab's.
+
+    Where the record's analog values are in the kind its channels' PS flag
+    names (the reference never converts), they must be identical; the time
+    axis equals the reference's minus its first sample (eventlab counts from
+    the first sample).
+    """
+    assert record.station == ref.station_name
+    assert record.device == ref.rec_dev_id
+    assert str(record.revision) == ref.rev_year
+    assert record.frequency_hz == ref.frequency
+    assert record.data_format == ref.ft.upper()
+    assert len(record.analog) == ref.analog_count
+    assert len(record.status) == ref.status_count
+    assert record.n_samples == ref.total_samples
+    if record.n_samples:
+        np.testing.assert_array_equal(record.time, ref.time - ref.time[0])
+    for ch, spec, values in zip(record.analog, ref.cfg.analog_channels, ref.analog, strict=True):
+        assert (ch.name, ch.phase, ch.circuit, ch.unit) == (spec.name, spec.ph, spec.ccbm,
+                                                            spec.uu)
+        assert (ch.a, ch.b, ch.skew_s) == (spec.a, spec.b, spec.skew * 1e-6)
+        assert (ch.min, ch.max) == (spec.cmin, spec.cmax)
+        assert (ch.primary, ch.secondary, ch.ps) == (spec.primary, spec.secondary, spec.pors)
+        want = "P" if record.values == "primary" else "S"
+        if ch.ps == want:
+            np.testing.assert_array_equal(ch.values, values)
+    for ch, spec, values in zip(record.status, ref.cfg.status_channels, ref.status, strict=True):
+        assert (ch.name, ch.phase, ch.circuit, ch.normal) == (spec.name, spec.ph, spec.ccbm,
+                                                              spec.y)
+        np.testing.assert_array_equal(ch.values, values)
+    if record.start is not None:
+        assert record.start == ref.start_timestamp
+        assert record.trigger == ref.trigger_timestamp
