@@ -84,10 +84,11 @@ def _decide(d_abc: np.ndarray, x_012: np.ndarray, basis: str) -> Classification:
     d012 = abc_to_012(d_abc)
     loops = np.abs(np.array([d_abc[0] - d_abc[1], d_abc[1] - d_abc[2], d_abc[2] - d_abc[0]]))
     x0, x2 = x_012[0], x_012[2]
+    pre = "di" if basis == "currents" else "dv"
     ev: dict[str, float | str] = {
-        f"d{basis[0]}_{p}": float(v) for p, v in zip(_PH, mags, strict=True)}
-    ev.update({f"d{basis[0]}_loop_{p}": float(v) for p, v in zip(("AB", "BC", "CA"), loops,
-                                                                  strict=True)})
+        f"{pre}_{p}": float(v) for p, v in zip(_PH, mags, strict=True)}
+    ev.update({f"{pre}_loop_{p}": float(v) for p, v in zip(("AB", "BC", "CA"), loops,
+                                                            strict=True)})
     d1 = max(abs(d012[1]), 1e-300)
     ground_ratio = 3.0 * abs(x0) / max(m, 1e-300)
     ev["ground_ratio"] = ground_ratio

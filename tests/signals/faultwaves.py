@@ -67,6 +67,7 @@ class Scenario:
     noise: float = 0.0                      # std of the noise / peak of nominal quantity
     seed: int = 0
     system: System = field(default_factory=System)
+    sample_rate_hz: float | None = None     # default: samples_per_cycle * f0
 
 
 def _fault_seq_currents(canon: str, z0, z1, z2, vf, rf):
@@ -137,7 +138,7 @@ def make_event(sc: Scenario):
     """
     s = sc.system
     n_cyc = sc.samples_per_cycle
-    fs = n_cyc * s.f0_hz
+    fs = sc.sample_rate_hz or n_cyc * s.f0_hz
     n = int(round(sc.duration_s * fs))
     t = np.arange(n) / fs
     w = 2 * np.pi * s.f0_hz

@@ -1,0 +1,422 @@
+"""``analyze()``: the signal chain of one event, as a tree of frozen dataclasses.
+
+records -> line terminals (channel roles) -> phasors (one-cycle DFT, offset
+mitigation, frequency tracking when off nominal) -> timeline, windows,
+classification -> :class:`Analysis`, whose ``to_dict()`` is the documented
+JSON (README, "Analysis JSON").
+
+Fields ``location`` and ``comparison`` are reserved for the model-based steps
+(None and () when no network model is given); keys are only ever added.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass, field
+from types import MappingProxyType
+from typing import Any
+
+import numpy as np
+
+from eventlab import __version__
+from eventlab.errors import SignalError
+from eventlab.records.model import Record
+from eventlab.records.roles import TerminalChannels, map_terminals
+from eventlab.signals.classify import Classification
+from eventlab.signals.frequency import estimate_frequency, tracked_phasors
+from eventlab.signals.phasors import (
+    FilterKind,
+    check_filter_kind,
+    dft_phasors,
+    moving_rms,
+    window_phasor,
+)
+from eventlab.signals.timeline import Timeline, build_timeline
+from eventlab.symmetrical import abc_to_012
+from eventlab.units import polar_deg
+
+PHASES = ("A", "B", "C")
+ROLES_V = ("VA", "VB", "VC")
+ROLES_I = ("IA", "IB", "IC")
+#: deviation from nominal [Hz] above which phasors are re-estimated with tracking
+TRACK_ABOVE_HZ = 0.05
+
+
+@dataclass(frozen=True)
+class AnalysisOptions:
+    """Options of :func:`analyze` (all optional).
+
+    ``filter``: phasor filter kind for the whole-record phasors ("full",
+    "half", "cosine"); ``mitigate_offset``: fault-window currents through the
+    mimic filter; ``tau_s``: offset time constant [s] (None: estimated);
+    ``track_frequency``: re-estimate phasors with tracking when the pre-fault
+    frequency is off nominal by more than 0.05 Hz; ``channel_maps``: per
+    record (by index) a role -> channel-name map for
+    :func:`~eventlab.records.roles.map_terminals`.
+    """
+
+    filter: FilterKind = "full"
+    mitigate_offset: bool = True
+    tau_s: float | None = None
+    track_frequency: bool = True
+    channel_maps: Mapping[int, Mapping[str, str]] = field(default_factory=dict)
+
+    def __post_init__(self) -> None:
+        check_filter_kind(self.filter)
+        object.__setattr__(self, "channel_maps", MappingProxyType(
+            {int(k): MappingProxyType(dict(v)) for k, v in dict(self.channel_maps).items()}))
+
+
+@dataclass(frozen=True)
+class RecordInfo:
+    """What a reader of the event needs to know about one record."""
+
+    index: int
+    source: str | None
+    station: str
+    device: str
+    revision: int
+    data_format: str
+    start: str | None            # ISO 8601, as in the .cfg
+    trigger: str | None
+    trigger_s: float | None      # trigger from the first sample [s]
+    sample_rate_hz: float
+    samples_per_cycle: int
+    nominal_frequency_hz: float
+    frequency_hz: float | None   # estimated from the pre-fault positive-sequence voltage
+    tracked: bool                # phasors re-estimated with frequency tracking
+    n_samples: int
+    duration_s: float
+    n_analog: int
+    n_status: int
+    values: str
+
+    def to_dict(self) -> dict:
+        return {k: getattr(self, k) for k in self.__dataclass_fields__}
+
+
+@dataclass(frozen=True)
+class TerminalAnalysis:
+    """The signal chain of one line terminal of one record."""
+
+    record: int
+    label: str
+    channels: Mapping[str, str]                 # role -> record channel name
+    timeline: Timeline
+    classification: Classification | None
+    prefault: Mapping[str, complex]             # channel name -> phasor [V]/[A]
+    fault: Mapping[str, complex]
+    v012_prefault: np.ndarray = field(repr=False, compare=False)
+    i012_prefault: np.ndarray = field(repr=False, compare=False)
+    v012_fault: np.ndarray = field(repr=False, compare=False)
+    i012_fault: np.ndarray = field(repr=False, compare=False)
+    peak_a: tuple[float, float, float] | None = None      # instantaneous, inception..clearing
+    rms_fault: Mapping[str, float] = field(default_factory=dict)     # true RMS, fault window
+    rms_prefault: Mapping[str, float] = field(default_factory=dict)
+    flags: tuple[str, ...] = ()
+
+    @property
+    def fault_type(self) -> str:
+        return self.timeline.fault_type
+
+
+@dataclass(frozen=True)
+class Analysis:
+    """Result of :func:`analyze`; ``to_dict()`` gives the documented JSON."""
+
+    records: tuple[RecordInfo, ...]
+    terminals: tuple[TerminalAnalysis, ...]
+    primary: int | None                     # index into terminals of the headline terminal
+    warnings: tuple[str, ...] = ()
+    location: Any = None                    # filled by the model-based steps
+    comparison: tuple = ()
+
+    @property
+    def fault_type(self) -> str:
+        if self.primary is None:
+            return "none"
+        return self.terminals[self.primary].fault_type
+
+    def to_dict(self) -> dict:
+        head = self.terminals[self.primary] if self.primary is not None else None
+        return {
+            "eventlab_version": __version__,
+            "fault": _fault_dict(head),
+            "timeline": _timeline_dict(
+                head.timeline if head else None,
+                self.records[head.record].nominal_frequency_hz if head else None),
+            "phasors": _phasors_dict(head),
+            "sequence": _sequence_dict(head),
+            "records": [r.to_dict() for r in self.records],
+            "terminals": [_terminal_dict(t, self.records[t.record].nominal_frequency_hz)
+                          for t in self.terminals],
+            "location": self.location.to_dict() if hasattr(self.location, "to_dict")
+            else self.location,
+            "comparison": [c.to_dict() if hasattr(c, "to_dict") else c for c in self.comparison],
+            "warnings": list(self.warnings),
+        }
+
+
+# ------------------------------------------------------------------ JSON helpers
+def _pd(z) -> list[float] | None:
+    if z is None or not np.isfinite(complex(z)):
+        return None
+    m, d = polar_deg(z)
+    return [m, d]
+
+
+def _fault_dict(t: TerminalAnalysis | None) -> dict:
+    if t is None or t.classification is None:
+        return {"type": "none", "confidence": None, "ground": False, "basis": "",
+                "reason": "no fault found" if t is not None else "no line terminal",
+                "evidence": {}, "record": None if t is None else t.record,
+                "terminal": None if t is None else t.label}
+    d = t.classification.to_dict()
+    d["type"] = t.fault_type
+    d["record"] = t.record
+    d["terminal"] = t.label
+    return d
+
+
+def _timeline_dict(tl: Timeline | None, f0: float | None) -> dict:
+    if tl is None:
+        return {"inception_s": None, "clearing_s": None, "duration_ms": None,
+                "duration_cycles": None, "relay_time_ms": None, "breaker_time_ms": None,
+                "trip_s": None, "poles": {p: None for p in PHASES}, "pole_events": [],
+                "intervals": [], "status_edges": [], "flags": []}
+    return {
+        "inception_s": tl.inception_s, "clearing_s": tl.clearing_s,
+        "duration_ms": tl.duration_ms, "duration_cycles": tl.duration_cycles,
+        "relay_time_ms": tl.relay_time_ms, "breaker_time_ms": tl.breaker_time_ms,
+        "trip_s": tl.trip_s,
+        "poles": {p: {"open_s": s} for p, s in zip(PHASES, tl.pole_open_s, strict=True)},
+        "pole_events": [e.to_dict() for e in tl.poles],
+        "intervals": [{
+            "kind": iv.kind, "type": iv.type, "start_s": iv.start_s, "end_s": iv.end_s,
+            "duration_ms": iv.duration_ms,
+            "duration_cycles": None if iv.duration_ms is None or not f0
+            else iv.duration_ms * 1e-3 * f0,
+            "confidence": round(float(iv.classification.confidence), 3),
+            "cleared_by_poles": iv.cleared_by_poles,
+            "poles_open_s": {p: s for p, s in zip(PHASES, iv.pole_open_s, strict=True)},
+            "offset_tau_ms": None if iv.tau_s is None else 1e3 * iv.tau_s,
+            "windows": {"prefault": iv.prefault.to_dict() if iv.prefault else None,
+                        "fault": iv.fault.to_dict()},
+        } for iv in tl.intervals],
+        "status_edges": [e.to_dict() for e in tl.edges],
+        "flags": list(tl.flags),
+    }
+
+
+def _phasors_dict(t: TerminalAnalysis | None) -> dict:
+    if t is None:
+        return {"prefault": {}, "fault": {}}
+    return {"prefault": {k: _pd(z) for k, z in t.prefault.items()},
+            "fault": {k: _pd(z) for k, z in t.fault.items()},
+            "reference": "complex RMS, primary V/A, angle in degrees against a nominal-"
+                         "frequency reference from the record's first sample"}
+
+
+def _seq(x012) -> dict:
+    return {str(k): _pd(x012[k]) for k in range(3)}
+
+
+def _sequence_dict(t: TerminalAnalysis | None) -> dict:
+    if t is None:
+        return {"prefault": None, "fault": None}
+    out = {}
+    for name, v, i in (("prefault", t.v012_prefault, t.i012_prefault),
+                       ("fault", t.v012_fault, t.i012_fault)):
+        if v is None or i is None:
+            out[name] = None
+            continue
+        out[name] = {"V0": _pd(v[0]), "V1": _pd(v[1]), "V2": _pd(v[2]),
+                     "I0": _pd(i[0]), "I1": _pd(i[1]), "I2": _pd(i[2])}
+    return out
+
+
+def _terminal_dict(t: TerminalAnalysis, f0: float) -> dict:
+    return {
+        "record": t.record, "label": t.label, "channels": dict(t.channels),
+        "fault": _fault_dict(t) if t.classification is not None else _fault_dict(t),
+        "timeline": _timeline_dict(t.timeline, f0),
+        "phasors": _phasors_dict(t), "sequence": _sequence_dict(t),
+        "peak_a": None if t.peak_a is None else dict(zip(PHASES, t.peak_a, strict=True)),
+        "rms": {"prefault": dict(t.rms_prefault), "fault": dict(t.rms_fault)},
+        "flags": list(t.flags),
+    }
+
+
+# ------------------------------------------------------------------ the chain
+def _samples_per_cycle(record: Record) -> int:
+    t = record.time
+    if record.n_samples < 2:
+        raise SignalError(f"{record.source or record.station}: record holds "
+                          f"{record.n_samples} samples; expected several cycles")
+    d = np.diff(t)
+    dt = float(np.median(d))
+    if dt <= 0 or np.max(np.abs(d - dt)) > 0.01 * dt:
+        raise SignalError(f"{record.source or record.station}: sample rate changes within the "
+                          f"record; expected one fixed rate (field samp)")
+    fs = 1.0 / dt
+    f0 = record.frequency_hz
+    if not (f0 and np.isfinite(f0) and f0 > 0):
+        raise SignalError(f"{record.source or record.station}: field lf = {f0!r}; expected the "
+                          f"nominal line frequency")
+    n = fs / f0
+    if abs(n - round(n)) > 0.01 or round(n) < 8:
+        raise SignalError(f"{record.source or record.station}: {fs:.6g} Hz is {n:.4g} samples "
+                          f"per {f0:g} Hz cycle; expected a whole number of at least 8")
+    return int(round(n))
+
+
+def _iso(dt) -> str | None:
+    return None if dt is None else dt.isoformat()
+
+
+def _terminal(record: Record, k_rec: int, term: TerminalChannels, n: int, fs: float,
+              opts: AnalysisOptions, warnings: list[str]) -> tuple[TerminalAnalysis, float | None,
+                                                                   bool]:
+    v = term.v_abc
+    i = term.i_abc
+    t = record.time
+    f0 = record.frequency_hz
+    v_ph = dft_phasors(v, n, opts.filter)
+    i_ph = dft_phasors(i, n, opts.filter)
+    tl = build_timeline(t, v, i, n, trips=term.trips, breakers=term.breakers, v_ph=v_ph,
+                        i_ph=i_ph, mitigate_offset=opts.mitigate_offset, tau_s=opts.tau_s)
+    # frequency from the pre-fault part (or the whole record without a fault)
+    stop = record.n_samples
+    if tl.intervals and tl.intervals[0].prefault is not None:
+        stop = tl.intervals[0].prefault.end_index + 1
+    f_est = None
+    tracked = False
+    if stop >= 2 * n and np.abs(v[:, :stop]).max() > 0:
+        try:
+            f_est = estimate_frequency(v, n, fs, f0, 0, stop, iterations=1)
+        except SignalError:
+            f_est = None
+    if (opts.track_frequency and f_est is not None and abs(f_est - f0) > TRACK_ABOVE_HZ
+            and abs(f_est - f0) < 0.5 * f0):
+        v_ph = tracked_phasors(v, fs, f_est, f0, samples_per_cycle=n, kind=opts.filter)
+        i_ph = tracked_phasors(i, fs, f_est, f0, samples_per_cycle=n, kind=opts.filter)
+        tl = build_timeline(t, v, i, n, trips=term.trips, breakers=term.breakers, v_ph=v_ph,
+                            i_ph=i_ph, mitigate_offset=opts.mitigate_offset, tau_s=opts.tau_s)
+        tracked = True
+    roles = term.roles()
+    names_v = [c.name for c in term.voltages]
+    names_i = [c.name for c in term.currents]
+    extra = [(c, c.name) for c in (term.neutral_current, term.neutral_voltage,
+                                   term.parallel_residual) if c is not None]
+    pre: dict[str, complex] = {}
+    flt: dict[str, complex] = {}
+    rms_pre: dict[str, float] = {}
+    rms_flt: dict[str, float] = {}
+    cls = None
+    v012p = i012p = v012f = i012f = None
+    peak = None
+    flags = list(tl.flags)
+    if tl.intervals:
+        iv = tl.intervals[0]
+        cls = iv.classification
+        kf = iv.fault.end_index
+        kp = iv.prefault.end_index if iv.prefault is not None else None
+        for names, ph_now, ph_fault in ((names_v, v_ph, iv.v_fault), (names_i, i_ph, iv.i_fault)):
+            for p, name in enumerate(names):
+                if kp is not None:
+                    pre[name] = complex(ph_now[p, kp])
+                flt[name] = complex(ph_fault[p])
+        for ch, name in extra:
+            x = np.asarray(ch.values, dtype=float)
+            if kp is not None:
+                pre[name] = complex(window_phasor(x, kp, n))
+            flt[name] = complex(window_phasor(x, kf, n))
+        rv = moving_rms(np.vstack([v, i]), n)
+        for p, name in enumerate(names_v + names_i):
+            if kp is not None:
+                rms_pre[name] = float(rv[p, kp])
+            rms_flt[name] = float(rv[p, kf])
+        if kp is not None:
+            v012p = abc_to_012(np.array([pre[nm] for nm in names_v]))
+            i012p = abc_to_012(np.array([pre[nm] for nm in names_i]))
+        v012f = abc_to_012(np.asarray(iv.v_fault))
+        i012f = abc_to_012(np.asarray(iv.i_fault))
+        k0 = iv.start_index
+        last = tl.intervals[-1]
+        k1 = last.end_index if last.end_index is not None else record.n_samples
+        k1 = max(k1, k0 + 1)
+        peak = tuple(float(x) for x in np.max(np.abs(i[:, k0:k1]), axis=1))
+    else:
+        # no fault: steady phasors at the end of the first full cycle and at the record's end
+        for names, ph in ((names_v, v_ph), (names_i, i_ph)):
+            for p, name in enumerate(names):
+                pre[name] = complex(ph[p, n - 1]) if np.isfinite(ph[p, n - 1]) else complex(
+                    np.nan)
+    ta = TerminalAnalysis(
+        record=k_rec, label=term.label, channels=MappingProxyType(dict(roles)), timeline=tl,
+        classification=cls, prefault=MappingProxyType(pre), fault=MappingProxyType(flt),
+        v012_prefault=v012p, i012_prefault=i012p, v012_fault=v012f, i012_fault=i012f,
+        peak_a=peak, rms_fault=MappingProxyType(rms_flt), rms_prefault=MappingProxyType(rms_pre),
+        flags=tuple(flags))
+    return ta, f_est, tracked
+
+
+def analyze(records: Sequence[Record] | Record, model=None, line: str | None = None,
+            options: AnalysisOptions | None = None) -> Analysis:
+    """Run the signal chain on one record or several (e.g. the two ends of a line).
+
+    Parameters
+    ----------
+    records : Record or sequence of Record
+    model : NetworkModel, optional
+        Reserved for the model-based steps (location, comparison); the signal
+        chain does not need it.
+    line : str, optional
+        Line id in ``model`` (reserved).
+    options : AnalysisOptions, optional
+
+    Returns
+    -------
+    Analysis
+        Headline (``primary``): the first terminal, in record order, that
+        holds a fault; else the first terminal.
+    """
+    if isinstance(records, Record):
+        records = [records]
+    records = list(records)
+    if not records:
+        raise SignalError("analyze: no record given; expected at least one")
+    opts = options if options is not None else AnalysisOptions()
+    infos = []
+    terms: list[TerminalAnalysis] = []
+    warnings: list[str] = []
+    for k, rec in enumerate(records):
+        n = _samples_per_cycle(rec)
+        fs = n * rec.frequency_hz
+        cmap = opts.channel_maps.get(k)
+        found = map_terminals(rec, cmap)
+        f_first, tracked_any = None, False
+        for term in found:
+            ta, f_est, tracked = _terminal(rec, k, term, n, fs, opts, warnings)
+            terms.append(ta)
+            if f_first is None:
+                f_first = f_est
+            tracked_any |= tracked
+        trig_s = None
+        if rec.start is not None and rec.trigger is not None:
+            trig_s = (rec.trigger - rec.start).total_seconds() + 1e-9 * (rec.trigger_ns -
+                                                                         rec.start_ns)
+        infos.append(RecordInfo(
+            index=k, source=rec.source, station=rec.station, device=rec.device,
+            revision=rec.revision, data_format=rec.data_format, start=_iso(rec.start),
+            trigger=_iso(rec.trigger), trigger_s=trig_s, sample_rate_hz=fs,
+            samples_per_cycle=n, nominal_frequency_hz=rec.frequency_hz, frequency_hz=f_first,
+            tracked=tracked_any, n_samples=rec.n_samples, duration_s=rec.duration_s,
+            n_analog=len(rec.analog), n_status=len(rec.status), values=rec.values))
+    primary = next((j for j, t in enumerate(terms) if t.fault_type != "none"),
+                   0 if terms else None)
+    if model is not None:
+        warnings.append("a network model was given: location and comparison are not part of "
+                        "this version of the signal chain")
+    return Analysis(records=tuple(infos), terminals=tuple(terms), primary=primary,
+                    warnings=tuple(warnings))

@@ -1,0 +1,160 @@
+"""analyze(): the signal chain on records built from numpy-made faults."""
+
+from __future__ import annotations
+
+import importlib.util
+import json
+import sys
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+from eventlab.analysis import Analysis, AnalysisOptions, analyze
+from eventlab.errors import ChannelMapError, SignalError
+from eventlab.faulttypes import FAULT_TYPES
+from eventlab.records.build import make_record
+
+_spec = importlib.util.spec_from_file_location(
+    "faultwaves_for_analysis", Path(__file__).parent / "signals" / "faultwaves.py")
+fw = importlib.util.module_from_spec(_spec)
+sys.modules[_spec.name] = fw
+_spec.loader.exec_module(fw)
+
+NAMES = ("VA", "VB", "VC", "IA", "IB", "IC")
+
+
+def record_of(e, station="VELLMOOR", names=NAMES, circuit="", kv=False):
+    x = np.vstack([e["v_abc"], e["i_abc"]])
+    analog = []
+    for nm, row in zip(names, x, strict=True):
+        is_v = nm.split()[-1].startswith("V")
+        unit = ("kV" if kv else "V") if is_v else "A"
+        vals = row / 1e3 if (is_v and kv) else row
+        analog.append({"name": nm, "phase": nm[-1], "unit": unit, "values": vals,
+                       "circuit": circuit})
+    status = [{"name": "TRIP", "values": e["trip"], "circuit": circuit},
+              {"name": "52A", "values": e["breaker"], "circuit": circuit, "normal": 1}]
+    return make_record(station, e["fs_hz"], analog, status, frequency_hz=e["f0_hz"])
+
+
+@pytest.mark.parametrize("ftype", FAULT_TYPES)
+def test_every_type_through_analyze(ftype):
+    e = fw.fault_event(ftype, 0.0507, noise=0.002, seed=7)
+    a = analyze(record_of(e))
+    assert isinstance(a, Analysis)
+    assert a.fault_type == ftype
+    d = a.to_dict()
+    assert d["fault"]["type"] == ftype
+    assert abs(d["timeline"]["inception_s"] - e["truth"]["inception_s"]) <= 0.5e-3
+    assert d["timeline"]["clearing_s"] > d["timeline"]["inception_s"]
+    assert d["timeline"]["duration_ms"] == pytest.approx(
+        1e3 * (d["timeline"]["clearing_s"] - d["timeline"]["inception_s"]))
+    json.dumps(d, allow_nan=False)
+
+
+def test_phasors_in_json_against_numpy_fft():
+    # pre-fault and fault-window phasors equal the numpy.fft bin 1 of the same windows
+    # (rotated to the record's first sample), as magnitude and degrees
+    e = fw.fault_event("BG", 0.0507)
+    a = analyze(record_of(e), options=AnalysisOptions(mitigate_offset=False))
+    d = a.to_dict()
+    iv = d["timeline"]["intervals"][0]
+    n = e["samples_per_cycle"]
+    x = np.vstack([e["v_abc"], e["i_abc"]])
+    for key in ("prefault", "fault"):
+        k = iv["windows"][key]["end_index"]
+        s = k - n + 1
+        ref = np.sqrt(2) / n * np.fft.fft(x[:, s:k + 1], axis=-1)[:, 1] * np.exp(-2j * np.pi * s / n)
+        for row, nm in enumerate(NAMES):
+            mag, deg = d["phasors"][key][nm]
+            assert mag == pytest.approx(abs(ref[row]), rel=1e-9)
+            assert deg == pytest.approx(np.degrees(np.angle(ref[row])), abs=1e-6)
+
+
+def test_sequence_and_peaks():
+    e = fw.fault_event("CG", 0.0507)
+    a = analyze(record_of(e))
+    t = a.terminals[0]
+    # 3 I0 = IA + IB + IC (definition) in the fault window
+    i_f = np.array([t.fault[nm] for nm in ("IA", "IB", "IC")])
+    assert 3 * t.i012_fault[0] == pytest.approx(i_f.sum())
+    # peak: the largest instantaneous current of phase C during the fault
+    k0 = int(e["truth"]["inception_s"] * e["fs_hz"])
+    assert t.peak_a[2] == pytest.approx(np.abs(e["i_abc"][2, k0:]).max(), rel=1e-9)
+    d = a.to_dict()
+    assert set(d["sequence"]["fault"]) == {"V0", "V1", "V2", "I0", "I1", "I2"}
+
+
+def test_no_fault_record():
+    e = fw.fault_event("AG", 0.0507)
+    x = np.vstack([e["v_abc"], e["i_abc"]])
+    # replace everything by the first cycle, repeated: a recorder test
+    n = e["samples_per_cycle"]
+    reps = x.shape[1] // n
+    steady = np.tile(x[:, :n], reps)
+    ee = dict(e, v_abc=steady[:3], i_abc=steady[3:], trip=np.zeros(reps * n),
+              breaker=np.ones(reps * n))
+    a = analyze(record_of(ee))
+    d = a.to_dict()
+    assert d["fault"]["type"] == "none"
+    assert d["timeline"]["inception_s"] is None and d["timeline"]["clearing_s"] is None
+    assert d["timeline"]["duration_ms"] is None
+    assert d["location"] is None and d["comparison"] == []
+
+
+def test_two_records_and_kv_units():
+    e1 = fw.fault_event("ABG", 0.0507)
+    e2 = fw.fault_event("ABG", 0.0507, system=fw.System(load_angle_deg=-10.0))
+    a = analyze([record_of(e1), record_of(e2, station="CARDON REACH", kv=True)])
+    d = a.to_dict()
+    assert [r["station"] for r in d["records"]] == ["VELLMOOR", "CARDON REACH"]
+    assert [t["fault"]["type"] for t in d["terminals"]] == ["ABG", "ABG"]
+    # kV channels are handed back in V by the channel roles: same magnitudes
+    assert d["terminals"][1]["phasors"]["prefault"]["VA"][0] > 1e5
+
+
+def test_off_nominal_frequency_is_tracked():
+    # a 59.0 Hz system recorded at 3840 Hz with lf = 60: frequency estimated, phasors tracked
+    e = fw.fault_event("AG", 0.0507, system=fw.System(f0_hz=59.0), sample_rate_hz=3840.0)
+    a = analyze(record_of(dict(e, f0_hz=60.0)))
+    r = a.records[0]
+    assert r.frequency_hz == pytest.approx(59.0, abs=0.01)
+    assert r.tracked
+    assert a.fault_type == "AG"
+    # tracked pre-fault magnitude: IEEE C37.118.1 TVE limit 1 % -> magnitude within 1 %
+    v_pre = a.terminals[0].prefault["VA"]
+    assert abs(v_pre) == pytest.approx(abs(fw.steady_phasors(fw.System(f0_hz=59.0), 0.4, None)[0][0]),
+                                       rel=0.01)
+
+
+def test_several_terminals_in_one_recorder_file():
+    es = [fw.fault_event(ft, 0.0507) for ft in ("BC", "AG")]
+    analog, status = [], []
+    for j, e in enumerate(es):
+        x = np.vstack([e["v_abc"], e["i_abc"]])
+        for nm, row in zip(NAMES, x, strict=True):
+            analog.append({"name": f"L{j + 1:02d} {nm}", "phase": nm[-1],
+                           "unit": "V" if nm[0] == "V" else "A", "values": row,
+                           "circuit": f"L{j + 1:02d}"})
+        status.append({"name": f"L{j + 1:02d} TRIP", "values": e["trip"],
+                       "circuit": f"L{j + 1:02d}"})
+    rec = make_record("PELLINGFORD", es[0]["fs_hz"], analog, status, frequency_hz=60.0)
+    a = analyze(rec)
+    assert [(t.label, t.fault_type) for t in a.terminals] == [("L01", "BC"), ("L02", "AG")]
+    assert a.terminals[0].timeline.trip_s is not None
+
+
+def test_errors():
+    e = fw.fault_event("AG", 0.0507)
+    with pytest.raises(SignalError):
+        analyze([])
+    rec = make_record("X", e["fs_hz"], [{"name": "FOO", "phase": "", "unit": "A",
+                                          "values": e["i_abc"][0]}], frequency_hz=60.0)
+    with pytest.raises(ChannelMapError):
+        analyze(rec)
+    odd = record_of(dict(e, fs_hz=1000.0))
+    with pytest.raises(SignalError, match="samples per"):
+        analyze(odd)
+    with pytest.raises(SignalError):
+        AnalysisOptions(filter="sine")
