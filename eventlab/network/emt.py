@@ -5,7 +5,8 @@ coupled group of up to three elements) between two nodes or a node and
 ground:
 
 * coupled series R-L groups (sources with their EMF, line sections,
-  transformer leakage), matrices ``R`` [ohm] and ``L`` [H];
+  transformer leakage with an ideal turns ratio), matrices ``R`` [ohm] and
+  ``L`` [H];
 * coupled shunt capacitance groups ``C`` [F] (pi-section line model);
 * resistors whose conductance can be switched (fault paths, breaker poles,
   loads, a high-resistance leak from every node to ground).
@@ -20,8 +21,10 @@ trapezoidal rule and step ``dt``
 * C:    ``G = 2C/dt``, ``h_n = -G v_{n-1} - i_{n-1}``;
 * R:    ``G = 1/R``, ``h_n = 0``;
 
-where ``v`` is the branch voltage ``v_from - v_to - e`` (``e`` the branch EMF)
-and ``i`` the branch current from ``from`` to ``to``.  Kirchhoff's current
+where ``v`` is the branch voltage ``v_from - v_to - e`` (``e`` the branch EMF;
+for a transformer unit also ``- n (v_from2 - v_to2)``, a generalised
+incidence with the turns ratio ``n``) and ``i`` the branch current from
+``from`` to ``to``.  Kirchhoff's current
 law ``A i = 0`` (``A`` the node-branch incidence) gives the nodal equation
 ``(A G A^T) v_node = A (G e - h)``.  Between switching events the circuit is
 linear and time-invariant, so the solver collapses one step into a single
@@ -82,6 +85,11 @@ class Branch:
     c_f: np.ndarray | None = field(default=None, repr=False)
     emf_v: np.ndarray | None = field(default=None, repr=False)
     closed: tuple[bool, ...] = ()
+    #: ideal-transformer coupling of ``"rl"`` elements: element k also spans
+    #: the winding ``nodes_from2[k] -> nodes_to2[k]`` with ratio ``turns[k]``
+    nodes_from2: tuple[int, ...] = ()
+    nodes_to2: tuple[int, ...] = ()
+    turns: tuple[float, ...] = ()
 
 
 class CircuitBuilder:
@@ -116,6 +124,25 @@ class CircuitBuilder:
         m = len(n_from)
         emf = np.zeros(m, complex) if emf_v is None else np.asarray(emf_v, dtype=complex)
         self.branches.append(Branch(name, "rl", tuple(n_from), tuple(n_to), r, l_h=ll, emf_v=emf))
+
+    def add_winding_rl(self, name: str, n_from, n_to, n_from2, n_to2, turns, r_ohm,
+                       l_h) -> None:
+        """Two-winding units: leakage R-L (referred to the first winding) plus an ideal ratio.
+
+        Element k has first winding ``n_from[k] -> n_to[k]`` and second winding
+        ``n_from2[k] -> n_to2[k]``, turns ratio ``turns[k]`` (first over second
+        winding voltage).  Its branch voltage is
+        ``v_from - v_to - turns (v_from2 - v_to2)``; a current ``i`` in the first
+        winding comes with ``turns * i`` out of ``n_from2`` side into the
+        network (an ideal transformer; no magnetising branch).
+        """
+        r = np.atleast_2d(np.asarray(r_ohm, dtype=float))
+        ll = np.atleast_2d(np.asarray(l_h, dtype=float))
+        m = len(n_from)
+        self.branches.append(Branch(name, "rl", tuple(n_from), tuple(n_to), r, l_h=ll,
+                                    emf_v=np.zeros(m, complex), nodes_from2=tuple(n_from2),
+                                    nodes_to2=tuple(n_to2),
+                                    turns=tuple(float(t) for t in turns)))
 
     def add_c(self, name: str, n_from, n_to, c_f) -> None:
         """Coupled capacitance group (m x m ``c_f`` [F])."""
@@ -172,11 +199,17 @@ def _incidence(circuit: Circuit) -> np.ndarray:
     a = np.zeros((circuit.n_nodes, circuit.n_elements))
     k = 0
     for b in circuit.branches:
-        for nf, nt in zip(b.nodes_from, b.nodes_to, strict=True):
+        for j, (nf, nt) in enumerate(zip(b.nodes_from, b.nodes_to, strict=True)):
             if nf != GROUND:
                 a[nf, k] += 1.0
             if nt != GROUND:
                 a[nt, k] -= 1.0
+            if b.turns:
+                n2f, n2t, tr = b.nodes_from2[j], b.nodes_to2[j], b.turns[j]
+                if n2f != GROUND:
+                    a[n2f, k] -= tr
+                if n2t != GROUND:
+                    a[n2t, k] += tr
             k += 1
     return a
 

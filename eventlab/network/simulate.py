@@ -12,6 +12,10 @@ a relay trip output and the breaker auxiliary contacts.  The engine is
 :func:`write_simulation` writes one COMTRADE record per terminal through the
 record layer's writer, plus ``truth.json`` with what was simulated.
 
+Transformers are three two-winding units connected per their vector group
+(no magnetising branch); lines with zero-sequence mutual coupling are
+coupled 6 x 6 R-L pieces.
+
 Conventions
 -----------
 Fault resistances follow the fault solver: phase-to-ground ``r_fault_ohm``
@@ -53,7 +57,7 @@ from eventlab.network.emt import (
 )
 from eventlab.network.emt_ct import CtSaturation, ct_secondary
 from eventlab.network.model import Line, LineSection, NetworkModel, Terminal
-from eventlab.network.perunit import voltage_zones
+from eventlab.network.perunit import transformer_z_pu, voltage_zones
 from eventlab.records.build import make_record
 from eventlab.records.model import Record
 from eventlab.symmetrical import phase_matrix_from_sequence
@@ -339,12 +343,6 @@ def _fault_slot(code: str, r_f: float, r_g: float) -> tuple[list[int], float, fl
 def _build(model: NetworkModel, spec: SimulationSpec, mode: str) -> _Layout:
     f = model.system.frequency_hz
     omega = 2.0 * math.pi * f
-    if model.transformers:
-        raise ModelError(f"{model.source_name}: simulate: transformers are not modelled in the "
-                         f"time-domain simulation; give the network behind each line as sources")
-    if any(ln.mutual is not None for ln in model.lines):
-        raise ModelError(f"{model.source_name}: simulate: zero-sequence mutual coupling between "
-                         f"lines is not modelled in the time-domain simulation")
     fline = model.line(spec.line)
     zones = voltage_zones(model)
     cb = CircuitBuilder()
@@ -365,8 +363,9 @@ def _build(model: NetworkModel, spec: SimulationSpec, mode: str) -> _Layout:
     line_end: dict[str, tuple[int, int, int]] = {}
     faulted_breakers: list[str] = []
     fault_nodes = None
+    ends: dict[str, dict[str, tuple[int, int, int]]] = {}
     for ln in model.lines:
-        ends = {}
+        ends[ln.id] = {}
         for bus in (ln.from_bus, ln.to_bus):
             key = f"{ln.id}@{bus}"
             nodes = cb.bus(f"{ln.id}.{bus}")
@@ -374,21 +373,38 @@ def _build(model: NetworkModel, spec: SimulationSpec, mode: str) -> _Layout:
             cb.add_r(name, cb.bus(bus), nodes, [BOLTED_OHM] * 3)
             breakers[key] = name
             line_end[key] = nodes
-            ends[bus] = nodes
+            ends[ln.id][bus] = nodes
             if ln.id == fline.id:
                 faulted_breakers.append(key)
+    done: set[str] = set()
+    for ln in model.lines:
+        if ln.id in done:
+            continue
         at_km = None
         if ln.id == fline.id and spec.type != NO_FAULT:
             at_km = spec.fraction * ln.length_km
+        if ln.mutual is not None:
+            other = model.line(ln.mutual.line)
+            done.update({ln.id, other.id})
+            if other.id == fline.id and spec.type != NO_FAULT:
+                ln, other = other, ln
+                at_km = spec.fraction * ln.length_km
+            fn = _pair_chain(cb, ln, other, ends, at_km, spec, omega, mode)
+            if fn is not None:
+                fault_nodes = fn
+            continue
+        done.add(ln.id)
         parts = _split_sections(ln, at_km)
-        chain_start = ends[ln.from_bus]
+        chain_start = ends[ln.id][ln.from_bus]
         for p_i, pieces in enumerate(parts):
             last = p_i == len(parts) - 1
-            chain_end = ends[ln.to_bus] if last else cb.bus(f"{ln.id}.F")
+            chain_end = ends[ln.id][ln.to_bus] if last else cb.bus(f"{ln.id}.F")
             if not last:
                 fault_nodes = chain_end
             _chain(cb, f"{ln.id}.p{p_i}", chain_start, chain_end, pieces, spec, omega, mode)
             chain_start = chain_end
+    for t in model.transformers:
+        _add_transformer(cb, model, t, omega)
     fault_groups: list[str] = []
     fault_ground: list[str] = []
     if spec.type != NO_FAULT:
@@ -455,6 +471,154 @@ def _chain(cb: CircuitBuilder, name: str, start, end, pieces, spec: SimulationSp
             cb.add_c(f"{name}.c{k}a", node, (GROUND,) * 3, c)
             cb.add_c(f"{name}.c{k}b", nxt, (GROUND,) * 3, c)
         node = nxt
+
+
+def _pair_chain(cb: CircuitBuilder, la: Line, lb: Line, ends, at_km, spec: SimulationSpec,
+                omega: float, mode: str):
+    """Two lines with zero-sequence mutual coupling as coupled 6 x 6 R-L pieces.
+
+    Both lines are cut at the fault point of ``la`` (if any); positions run from
+    ``la.from_bus``.  Returns the fault node triple on ``la`` or None.
+    """
+    sa, sb = la.sections[0], lb.sections[0]
+    length = la.length_km
+    z0m = la.mutual.z0m_ohm_per_km
+    cuts = [0.0, length] if at_km is None else sorted({0.0, float(at_km), length})
+    a_prev, b_prev = ends[la.id][la.from_bus], ends[lb.id][la.from_bus]
+    fault_nodes = None
+    if at_km is not None and at_km <= 0.0:
+        fault_nodes = a_prev
+    if at_km is not None and at_km >= length:
+        fault_nodes = ends[la.id][la.to_bus]
+    segs: list[tuple[float, bool]] = []   # (length, ends at the fault point)
+    for j in range(len(cuts) - 1):
+        piece = cuts[j + 1] - cuts[j]
+        n = 1
+        if mode == "pi" and spec.pi_segment_km is not None:
+            n = max(1, math.ceil(piece / spec.pi_segment_km - 1e-9))
+        for q in range(n):
+            segs.append((piece / n, q == n - 1 and at_km is not None
+                         and abs(cuts[j + 1] - at_km) < 1e-12))
+    for k, (seg_km, at_fault) in enumerate(segs):
+        last = k == len(segs) - 1
+        if last:
+            a_next, b_next = ends[la.id][la.to_bus], ends[lb.id][la.to_bus]
+        else:
+            a_next = cb.bus(f"{la.id}.F" if at_fault else f"{la.id}.m{k}")
+            b_next = cb.bus(f"{lb.id}.m{k}")
+        if at_fault:
+            fault_nodes = a_next
+        za = phase_matrix_from_sequence(sa.z0_ohm_per_km * seg_km, sa.z1_ohm_per_km * seg_km)
+        zb = phase_matrix_from_sequence(sb.z0_ohm_per_km * seg_km, sb.z1_ohm_per_km * seg_km)
+        zm = phase_matrix_from_sequence(z0m * seg_km, 0.0)
+        z6 = np.block([[za, zm], [zm, zb]])
+        cb.add_rl(f"{la.id}+{lb.id}.s{k}", a_prev + b_prev, a_next + b_next, np.real(z6),
+                  np.imag(z6) / omega)
+        if mode == "pi":
+            for sec, n_prev, n_next, tag in ((sa, a_prev, a_next, "a"), (sb, b_prev, b_next, "b")):
+                if sec.c1_nf_per_km > 0:
+                    c = _c_of(sec.c0_nf_per_km * 1e-9 * seg_km / 2.0,
+                              sec.c1_nf_per_km * 1e-9 * seg_km / 2.0)
+                    cb.add_c(f"{la.id}+{lb.id}.c{k}{tag}1", n_prev, (GROUND,) * 3, c)
+                    cb.add_c(f"{la.id}+{lb.id}.c{k}{tag}2", n_next, (GROUND,) * 3, c)
+        a_prev, b_prev = a_next, b_next
+    return fault_nodes
+
+
+def _winding_options(hv_w: str, lv_w: str):
+    """Candidate LV connections: (LV node pairs per unit k, sign) for each rotation/polarity."""
+    opts = []
+    for r in range(3):
+        for sign in (1.0, -1.0):
+            if lv_w == "D":
+                for d in (1, 2):
+                    opts.append(([((k + r) % 3, (k + r + d) % 3) for k in range(3)], sign))
+            else:
+                opts.append(([((k + r) % 3, None) for k in range(3)], sign))
+    return opts
+
+
+def _lv_positive_sequence(hv_pairs, lv_pairs, sign, turns):
+    """Positive-sequence LV phase voltages for HV phase voltages (1, a^2, a)."""
+    a = np.exp(2j * np.pi / 3.0)
+    vp = np.array([1.0, a * a, a])
+    w = np.array([vp[f] - (vp[t] if t is not None else 0.0) for f, t in hv_pairs]) / turns
+    m = np.zeros((4, 3), complex)
+    rhs = np.zeros(4, complex)
+    for k, (p, q) in enumerate(lv_pairs):
+        m[k, p] += 1.0
+        if q is not None:
+            m[k, q] -= 1.0
+        rhs[k] = sign * w[k]
+    m[3, :] = 1.0   # positive sequence: no zero-sequence part
+    return np.linalg.lstsq(m, rhs, rcond=None)[0]
+
+
+def _add_transformer(cb: CircuitBuilder, model: NetworkModel, t, omega: float) -> None:
+    """Three two-winding units in the vector group's connection (no magnetising branch).
+
+    The leakage of the three units is one coupled 3 x 3 R-L group built from
+    the positive- and zero-sequence short-circuit impedances (referred to the
+    HV winding), so that the sequence impedances are those of the fault
+    solver; the LV connection is the one of the three rotations, two
+    polarities (and two delta senses) whose positive-sequence shift is
+    ``clock x 30 deg`` lagging (IEC 60076-1).
+    """
+    hv, lv = cb.bus(t.hv_bus), cb.bus(t.lv_bus)
+    kv_h, kv_l = model.bus(t.hv_bus).kv, model.bus(t.lv_bus).kv
+    hw, lw = t.hv_winding, t.lv_winding
+    s3 = math.sqrt(3.0)
+    vwh = kv_h * 1e3 / s3 if hw != "D" else kv_h * 1e3
+    vwl = kv_l * 1e3 / s3 if lw != "D" else kv_l * 1e3
+    turns = vwh / vwl
+    z1pu, z0pu = transformer_z_pu(t, t.mva)           # on the transformer's own rating
+    zb_w = vwh * vwh / (t.mva * 1e6 / 3.0)
+    zw = phase_matrix_from_sequence(z0pu * zb_w, z1pu * zb_w)
+
+    def star(tag: str, winding: str, z_n: complex):
+        if winding != "YN":
+            return cb.node(f"{t.id}.{tag}N")          # floating star (leak only)
+        if abs(z_n) == 0.0:
+            return GROUND
+        n = cb.node(f"{t.id}.{tag}N")
+        if z_n.imag > 0:
+            cb.add_rl(f"{t.id}.{tag}zn", (n,), (GROUND,), [[z_n.real]], [[z_n.imag / omega]])
+        else:
+            cb.add_r(f"{t.id}.{tag}zn", (n,), (GROUND,), [max(z_n.real, BOLTED_OHM)])
+        return n
+
+    if hw == "D":
+        hv_pairs = [(k, (k + 1) % 3) for k in range(3)]
+        hv_from = tuple(hv[k] for k in range(3))
+        hv_to = tuple(hv[(k + 1) % 3] for k in range(3))
+    else:
+        hn = star("H", hw, t.z_n_hv_ohm)
+        hv_pairs = [(k, None) for k in range(3)]
+        hv_from, hv_to = tuple(hv), (hn,) * 3
+    want = -t.clock * math.pi / 6.0
+    ratio = kv_l / kv_h
+    chosen = None
+    for lv_pairs, sign in _winding_options(hw, lw):
+        v = _lv_positive_sequence(hv_pairs, lv_pairs, sign, turns)
+        if (abs(abs(v[0]) - ratio) < 1e-9 * ratio
+                and abs(np.angle(v[0] * np.exp(-1j * want))) < 1e-9):
+            chosen = (lv_pairs, sign)
+            break
+    if chosen is None:  # pragma: no cover - every valid vector group has a connection
+        raise ModelError(f"{model.source_name}: simulate: no winding connection found for "
+                         f"transformer {t.id} ({t.vector_group})")
+    lv_pairs, sign = chosen
+    ln_ = star("L", lw, t.z_n_lv_ohm) if lw != "D" else None
+    f2, t2 = [], []
+    for p, q in lv_pairs:
+        a_node = lv[p]
+        b_node = lv[q] if q is not None else ln_
+        if sign < 0:
+            a_node, b_node = b_node, a_node
+        f2.append(a_node)
+        t2.append(b_node)
+    cb.add_winding_rl(f"xfmr.{t.id}", hv_from, hv_to, f2, t2, [turns] * 3, np.real(zw),
+                      np.imag(zw) / omega)
 
 
 # ----------------------------------------------------------------------------- run

@@ -29,7 +29,8 @@ ROLES_V = ("VA", "VB", "VC")
 ROLES_I = ("IA", "IB", "IC")
 
 
-def _model(sections=None, c_nf=None, angle_deg=-10.0, transformer=False):
+def _model(sections=None, c_nf=None, angle_deg=-10.0, transformer=None, mutual=False,
+           z2=None):
     line = {"id": "L1", "from": "W", "to": "E"}
     if sections is None:
         line.update(length_km=80.0, z1_ohm_per_km=[0.03, 0.35], z0_ohm_per_km=[0.25, 1.1])
@@ -51,10 +52,22 @@ def _model(sections=None, c_nf=None, angle_deg=-10.0, transformer=False):
              "ct_polarity": "reversed"},
         ],
     }
-    if transformer:
+    if z2 is not None:
+        d["source"][0]["z2_ohm"] = z2
+    if transformer is not None:
+        # the E source moves behind a transformer to a 66 kV bus
         d["bus"].append({"id": "LV", "kv": 66.0})
-        d["transformer"] = [{"id": "T1", "hv_bus": "E", "lv_bus": "LV", "mva": 100.0,
-                             "z_percent": 10.0, "x_r": 20.0, "vector_group": "YNd11"}]
+        d["source"][1] = {"bus": "LV", "z1_ohm": [0.3, 3.0], "z0_ohm": [0.4, 4.5],
+                          "angle_deg": angle_deg}
+        d["transformer"] = [{"id": "T1", "hv_bus": "E", "lv_bus": "LV", "mva": 200.0,
+                             "z_percent": 12.0, "z0_percent": 10.0, "x_r": 25.0,
+                             **transformer}]
+    if mutual:
+        d["line"].append({"id": "L2", "from": "E", "to": "W", "length_km": 80.0,
+                          "z1_ohm_per_km": [0.03, 0.36], "z0_ohm_per_km": [0.26, 1.12],
+                          "mutual": {"line": "L1", "z0m_ohm_per_km": [0.2, 0.6]}})
+        d["terminal"] += [{"id": "W-L2", "line": "L2", "bus": "W"},
+                          {"id": "E-L2", "line": "L2", "bus": "E"}]
     return model_from_dict(d)
 
 
@@ -103,16 +116,26 @@ CASES = [
         {"length_km": 40.0, "z1_ohm_per_km": [0.04, 0.40], "z0_ohm_per_km": [0.30, 1.2]}]},
      dict(fraction=0.6, type="BG", r_fault_ohm=1.0)),
     ("pi sections AG", {"c_nf": (9.0, 6.0)}, dict(fraction=0.4, type="AG", r_fault_ohm=2.0)),
+    ("transformer YNd11 AG", {"transformer": {"vector_group": "YNd11"}},
+     dict(fraction=0.4, type="AG", r_fault_ohm=2.0)),
+    ("transformer Dyn1 CAG", {"transformer": {"vector_group": "Dyn1"}},
+     dict(fraction=0.7, type="CAG", r_fault_ohm=1.0, r_ground_ohm=2.0)),
+    ("transformer YNyn6 with neutral impedance BG",
+     {"transformer": {"vector_group": "YNyn6", "z_n_hv_ohm": [2.0, 10.0]}},
+     dict(fraction=0.25, type="BG", r_fault_ohm=1.0)),
+    ("mutual coupling, fault on L2", {"mutual": True},
+     dict(line="L2", fraction=0.35, type="BG", r_fault_ohm=2.0)),
 ]
 
 
 @pytest.mark.parametrize(("label", "model_kw", "fault"), CASES, ids=[c[0] for c in CASES])
 def test_steady_state_phasors_agree_with_fault_solver(label, model_kw, fault):
     model = _model(**model_kw)
-    spec = SimulationSpec(line="L1", inception_s=0.05, clear_after_s=None, duration_s=0.45,
-                          **FAST, **fault)
+    fault = {"line": "L1", **fault}
+    spec = SimulationSpec(inception_s=0.05, clear_after_s=None, duration_s=0.45, **FAST,
+                          **fault)
     result = simulate(model, spec)
-    ref = solve_fault(model, FaultSpec("L1", fault["fraction"], fault["type"],
+    ref = solve_fault(model, FaultSpec(fault["line"], fault["fraction"], fault["type"],
                                        fault.get("r_fault_ohm", 0.0),
                                        fault.get("r_ground_ohm", 0.0)))
     pre = prefault(model)
@@ -326,8 +349,8 @@ def test_truth_file_matches_the_spec(tmp_path):
 
 
 def test_model_features_the_simulator_cannot_represent():
-    with pytest.raises(ModelError, match="transformers"):
-        simulate(_model(transformer=True), SimulationSpec(line="L1", fraction=0.5, type="AG"))
+    with pytest.raises(ModelError, match="z2 != z1"):
+        simulate(_model(z2=[1.0, 12.0]), SimulationSpec(line="L1", fraction=0.5, type="AG"))
     with pytest.raises(ModelError, match="unknown line"):
         simulate(_model(), SimulationSpec(line="L9", fraction=0.5, type="AG"))
     with pytest.raises(ValueError, match="fraction"):
