@@ -40,6 +40,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, field
+from functools import cached_property
 
 import numpy as np
 
@@ -186,14 +187,73 @@ class BranchCurrent:
 
 @dataclass(frozen=True)
 class FaultResult:
-    """Result of :func:`solve_fault`."""
+    """Result of :func:`solve_fault`.
+
+    Attributes
+    ----------
+    spec : FaultSpec
+    fault : FaultPoint
+    terminals : dict
+        terminal id -> :class:`TerminalState`.
+    buses : dict
+        bus id -> :class:`BusState` (built on first access).
+    branches : tuple of BranchCurrent
+        Every line, transformer and source contribution at each of its buses
+        (built on first access).
+    base_mva : float
+    """
 
     spec: FaultSpec
     fault: FaultPoint
     terminals: dict[str, TerminalState]
-    buses: dict[str, BusState]
-    branches: tuple[BranchCurrent, ...]
     base_mva: float
+    _model: NetworkModel = field(repr=False, compare=False)
+    _net: SequenceNetwork = field(repr=False, compare=False)
+    _v012: np.ndarray = field(repr=False, compare=False)
+    _v_pre: np.ndarray = field(repr=False, compare=False)
+
+    @cached_property
+    def buses(self) -> dict[str, BusState]:
+        out = {}
+        for i, b in enumerate(self._model.buses):
+            vb = v_base_v(b.kv)
+            out[b.id] = BusState(id=b.id, kv=b.kv, v_abc=(FORTESCUE @ self._v012[:, i]) * vb,
+                                 v_abc_pre=(FORTESCUE @ self._v_pre[:, i]) * vb,
+                                 v_012=self._v012[:, i] * vb, v_012_pu=self._v012[:, i].copy())
+        return out
+
+    @cached_property
+    def branches(self) -> tuple[BranchCurrent, ...]:
+        net, model = self._net, self._model
+        base = model.system.base_mva
+        i_f_012 = self.fault.i_012_pu
+        port_i, port_i_pre = [], []
+        for el in net.elements:
+            vi = self._v012[:, el.idx]
+            port_i.append(np.stack([el.y[0] @ vi[0], el.y[1] @ vi[1], el.y[2] @ vi[2]]))
+            port_i_pre.append(el.y[1] @ self._v_pre[1, el.idx])
+        out: list[BranchCurrent] = []
+        for (eid, bus), (e, p) in net.ports.items():
+            el = net.elements[e]
+            i012 = port_i[e][:, p]
+            if net.fault_at_end == (eid, bus):
+                i012 = i012 + i_f_012
+            ib = i_base_a(float(net.node_kv[el.idx[p]]), base)
+            out.append(BranchCurrent(
+                element=eid, kind="transformer" if el.kind == "transformer" else "line", bus=bus,
+                i_abc=(FORTESCUE @ i012) * ib,
+                i_abc_pre=(FORTESCUE[:, 1] * port_i_pre[e][p]) * ib,
+                i_012=i012 * ib, i_012_pu=i012))
+        for src, (i, e, z0, z1, z2) in zip(model.sources, net.sources, strict=True):
+            ib = i_base_a(float(net.node_kv[i]), base)
+            v = self._v012[:, i]
+            i012 = np.array([-v[0] / z0, (e - v[1]) / z1, -v[2] / z2])
+            i1pre = (e - self._v_pre[1, i]) / z1
+            out.append(BranchCurrent(
+                element=f"source@{src.bus}", kind="source", bus=src.bus,
+                i_abc=(FORTESCUE @ i012) * ib, i_abc_pre=(FORTESCUE[:, 1] * i1pre) * ib,
+                i_012=i012 * ib, i_012_pu=i012))
+        return tuple(out)
 
 
 # ----------------------------------------------------------------------------- fault matrices
@@ -435,64 +495,31 @@ def solve_fault(model: NetworkModel, spec: FaultSpec) -> FaultResult:
 def _assemble(model, net, spec, v012, v_pre, fault, i_f_012):
     base = model.system.base_mva
     kvs = net.node_kv
-    # element port currents, per unit, shape (3, ports)
-    port_i = []
-    port_i_pre = []
-    for el in net.elements:
-        vi = v012[:, el.idx]
-        port_i.append(np.stack([el.y[s] @ vi[s] for s in range(3)]))
-        port_i_pre.append(el.y[1] @ v_pre[1, el.idx])
-
-    def port(key):
-        e, p = net.ports[key]
-        el = net.elements[e]
-        return port_i[e][:, p], port_i_pre[e][p], float(kvs[el.idx[p]])
-
     terminals: dict[str, TerminalState] = {}
+    index = net.bus_index
     for t in model.terminals:
-        i012, i1pre, kv = port((t.line, t.bus))
-        if fault is not None and net.fault_at_end == (t.line, t.bus):
+        e, p = net.ports[(t.line, t.bus)]
+        el = net.elements[e]
+        vi = v012[:, el.idx]
+        i012 = np.array([el.y[0][p] @ vi[0], el.y[1][p] @ vi[1], el.y[2][p] @ vi[2]])
+        i1pre = el.y[1][p] @ v_pre[1, el.idx]
+        if net.fault_at_end == (t.line, t.bus):
             i012 = i012 + i_f_012
-        sign = -1.0 if t.ct_polarity == "reversed" else 1.0
+        if t.ct_polarity == "reversed":
+            i012, i1pre = -i012, -i1pre
+        n = index[t.bus]
+        kv = float(kvs[n])
         ib, vb = i_base_a(kv, base), v_base_v(kv)
-        n = net.node_names.index(t.bus)
-        i_pre012 = np.array([0.0, i1pre, 0.0], dtype=complex)
+        v_n = v012[:, n]
         terminals[t.id] = TerminalState(
             id=t.id, line=t.line, bus=t.bus,
-            v_abc=(FORTESCUE @ v012[:, n]) * vb, i_abc=sign * (FORTESCUE @ i012) * ib,
-            v_abc_pre=(FORTESCUE @ v_pre[:, n]) * vb, i_abc_pre=sign * (FORTESCUE @ i_pre012) * ib,
-            v_012=v012[:, n] * vb, i_012=sign * i012 * ib,
-            v_012_pu=v012[:, n].copy(), i_012_pu=sign * i012,
+            v_abc=(FORTESCUE @ v_n) * vb, i_abc=(FORTESCUE @ i012) * ib,
+            v_abc_pre=(FORTESCUE[:, 1] * v_pre[1, n]) * vb,
+            i_abc_pre=(FORTESCUE[:, 1] * i1pre) * ib,
+            v_012=v_n * vb, i_012=i012 * ib, v_012_pu=v_n.copy(), i_012_pu=i012,
         )
-    buses: dict[str, BusState] = {}
-    for i, b in enumerate(model.buses):
-        vb = v_base_v(b.kv)
-        buses[b.id] = BusState(id=b.id, kv=b.kv, v_abc=(FORTESCUE @ v012[:, i]) * vb,
-                               v_abc_pre=(FORTESCUE @ v_pre[:, i]) * vb,
-                               v_012=v012[:, i] * vb, v_012_pu=v012[:, i].copy())
-    branches: list[BranchCurrent] = []
-    for (eid, bus), (e, _p) in net.ports.items():
-        i012, i1pre, kv = port((eid, bus))
-        kind = "transformer" if net.elements[e].kind == "transformer" else "line"
-        if fault is not None and net.fault_at_end == (eid, bus):
-            i012 = i012 + i_f_012
-        ib = i_base_a(kv, base)
-        branches.append(BranchCurrent(
-            element=eid, kind=kind, bus=bus, i_abc=(FORTESCUE @ i012) * ib,
-            i_abc_pre=(FORTESCUE @ np.array([0.0, i1pre, 0.0])) * ib,
-            i_012=i012 * ib, i_012_pu=i012))
-    for src, (i, e, z0, z1, z2) in zip(model.sources, net.sources, strict=True):
-        ib = i_base_a(float(kvs[i]), base)
-        v = v012[:, i]
-        i012 = np.array([-v[0] / z0, (e - v[1]) / z1, -v[2] / z2])
-        i1pre = (e - v_pre[1, i]) / z1
-        branches.append(BranchCurrent(
-            element=f"source@{src.bus}", kind="source", bus=src.bus,
-            i_abc=(FORTESCUE @ i012) * ib,
-            i_abc_pre=(FORTESCUE @ np.array([0.0, i1pre, 0.0])) * ib,
-            i_012=i012 * ib, i_012_pu=i012))
-    return FaultResult(spec=spec, fault=fault, terminals=terminals, buses=buses,
-                       branches=tuple(branches), base_mva=base)
+    return FaultResult(spec=spec, fault=fault, terminals=terminals, base_mva=base,
+                       _model=model, _net=net, _v012=v012, _v_pre=v_pre)
 
 
 def prefault(model: NetworkModel) -> dict[str, tuple[np.ndarray, np.ndarray]]:

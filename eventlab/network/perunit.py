@@ -155,6 +155,10 @@ def voltage_zones(model: NetworkModel) -> dict[str, Zone]:
                     zone_of[v] = n_zone
                     queue.append(v)
         n_zone += 1
-    zones = {bid: Zone(zone_of[bid], zone_kv[zone_of[bid]], angle[bid]) for bid in angle}
+    def wrap(a: float) -> float:
+        w = (a + math.pi) % (2 * math.pi) - math.pi
+        return math.pi if w <= -math.pi + 1e-12 else w
+
+    zones = {bid: Zone(zone_of[bid], zone_kv[zone_of[bid]], wrap(angle[bid])) for bid in angle}
     model._cache["zones"] = zones
     return zones

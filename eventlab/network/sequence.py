@@ -94,6 +94,7 @@ class SequenceNetwork:
     sources: list[tuple[int, complex, complex, complex, complex]] = field(default_factory=list)
     fault_node: int | None = None
     fault_at_end: tuple[str, str] | None = None
+    bus_index: dict[str, int] = field(default_factory=dict)
 
 
 def _omega(model: NetworkModel) -> float:
@@ -247,7 +248,28 @@ class _Builder:
             self.ports[(t.id, t.hv_bus)] = (e, 0)
             self.ports[(t.id, t.lv_bus)] = (e, 1)
 
+    def check_connected(self) -> None:
+        """Every node must reach a source through branches (else Y1 is singular)."""
+        n = len(self.names)
+        adj: list[set[int]] = [set() for _ in range(n)]
+        for el in self.elements:
+            nodes = [int(x) for x in el.idx]
+            for a in nodes:
+                adj[a].update(nodes)
+        seen = {self.index[s.bus] for s in self.model.sources}
+        stack = list(seen)
+        while stack:
+            u = stack.pop()
+            for v in adj[u] - seen:
+                seen.add(v)
+                stack.append(v)
+        lost = [self.names[i] for i in range(n) if i not in seen]
+        if lost:
+            raise ModelError(f"{self.model.source_name}: not connected to any [[source]]: "
+                             f"{', '.join(lost[:5])}{' ...' if len(lost) > 5 else ''}")
+
     def finish(self, fault_node: int | None, fault_at_end) -> SequenceNetwork:
+        self.check_connected()
         n = len(self.names)
         ys = tuple(np.zeros((n, n), dtype=complex) for _ in range(3))
         for el in self.elements:
@@ -266,9 +288,45 @@ class _Builder:
             ys[2][i, i] += 1.0 / z2
             inj[i] += e / z1
             sources.append((i, e, z0, z1, z2))
+        _ground_floating_zero_sequence(ys[0])
         return SequenceNetwork(y=ys, node_names=list(self.names), node_kv=np.array(self.kv),
                                injection=inj, elements=self.elements, ports=self.ports,
-                               sources=sources, fault_node=fault_node, fault_at_end=fault_at_end)
+                               sources=sources, fault_node=fault_node, fault_at_end=fault_at_end,
+                               bus_index=dict(self.index))
+
+
+#: leakage to ground [pu admittance] given to each node of an ungrounded zero-sequence island
+ZERO_SEQUENCE_LEAKAGE_PU = 1e-9
+
+
+def _ground_floating_zero_sequence(y0: np.ndarray) -> None:
+    """Give zero-sequence islands with no path to ground a tiny leakage (in place).
+
+    Behind a delta winding or an ungrounded star the zero-sequence network has
+    no path to ground and ``Y0`` is singular.  A leakage of
+    :data:`ZERO_SEQUENCE_LEAKAGE_PU` per node gives the physical limit of an
+    ungrounded system (no ground-fault current, full neutral shift) with a
+    relative error of that order.
+    """
+    n = y0.shape[0]
+    scale = max(float(np.max(np.abs(y0))), 1.0)
+    linked = np.abs(y0) > 1e-14 * scale
+    grounded = np.abs(y0.sum(axis=1)) > 1e-12 * scale
+    seen = np.zeros(n, dtype=bool)
+    for start in range(n):
+        if seen[start]:
+            continue
+        comp = [start]
+        seen[start] = True
+        k = 0
+        while k < len(comp):
+            u = comp[k]
+            k += 1
+            for v in np.nonzero(linked[u] & ~seen)[0]:
+                seen[v] = True
+                comp.append(int(v))
+        if not grounded[comp].any():
+            y0[comp, comp] += ZERO_SEQUENCE_LEAKAGE_PU
 
 
 def _partner(model: NetworkModel, line: Line) -> Line | None:
