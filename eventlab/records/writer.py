@@ -7,8 +7,9 @@ For the integer formats each analog channel gets ``b = (max + min) / 2`` and
 span ``-imax .. +imax`` with ``imax`` = 32767 (ASCII, BINARY) or
 2147483647 (BINARY32); the codes -32768 / -2147483648 stay free for missing
 data (clause 8).  Round trip error is at most ``a / 2`` per sample, i.e.
-half a quantization step.  FLOAT32 stores the values themselves (a = 1,
-b = 0).  ASCII uses the 16-bit range so that any C37.111 reader can hold the
+half a quantization step.  FLOAT32 stores ``v / a`` with ``a`` the power of
+two that brings the largest magnitude into 0.5..1 (b = 0), so only float32
+rounding remains (relative error <= 2**-24).  ASCII uses the 16-bit range so that any C37.111 reader can hold the
 integers; missing data are written as 99999 (1999 clause 7.4.2, from
 memory).
 
@@ -103,8 +104,12 @@ def build_cfg_and_rows(record: Record, *, revision: int = 2013, data_format: str
             raise ValueError(f"analog channel {ch.name!r} has {v.shape} values, the time "
                              f"axis {n}")
         if data_format == "FLOAT32":
-            a, b = 1.0, 0.0
-            raw = v.astype(np.float32).astype(np.float64)
+            # a power of two that brings the largest magnitude to 0.5..1: scaling is
+            # exact, only the float32 rounding of each value remains
+            finite = v[np.isfinite(v)]
+            peak = float(np.abs(finite).max()) if finite.size else 0.0
+            a, b = (2.0 ** math.ceil(math.log2(peak)) if peak > 0 else 1.0), 0.0
+            raw = (v / a).astype(np.float32).astype(np.float64)
             finite = raw[np.isfinite(raw)]
             cmin = float(finite.min()) if finite.size else 0.0
             cmax = float(finite.max()) if finite.size else 0.0
