@@ -23,7 +23,11 @@ from eventlab.errors import SignalError
 from eventlab.records.model import Record
 from eventlab.records.roles import TerminalChannels, map_terminals
 from eventlab.signals.classify import Classification
-from eventlab.signals.frequency import estimate_frequency, tracked_phasors
+from eventlab.signals.frequency import (
+    estimate_frequency,
+    frequency_from_phasor,
+    tracked_phasors,
+)
 from eventlab.signals.phasors import (
     FilterKind,
     check_filter_kind,
@@ -31,6 +35,7 @@ from eventlab.signals.phasors import (
     moving_rms,
     window_phasor,
 )
+from eventlab.signals.sequence import sequence_phasors
 from eventlab.signals.timeline import Timeline, build_timeline
 from eventlab.symmetrical import abc_to_012
 from eventlab.units import polar_deg
@@ -293,7 +298,10 @@ def _terminal(record: Record, k_rec: int, term: TerminalChannels, n: int, fs: fl
     tracked = False
     if stop >= 2 * n and np.abs(v[:, :stop]).max() > 0:
         try:
-            f_est = estimate_frequency(v, n, fs, f0, 0, stop, iterations=1)
+            # first from the phasors at hand; refined (with tracking) only when off nominal
+            f_est = frequency_from_phasor(sequence_phasors(v_ph[:, :stop])[1], fs, f0)
+            if abs(f_est - f0) > TRACK_ABOVE_HZ:
+                f_est = estimate_frequency(v, n, fs, f0, 0, stop, iterations=2)
         except SignalError:
             f_est = None
     if (opts.track_frequency and f_est is not None and abs(f_est - f0) > TRACK_ABOVE_HZ

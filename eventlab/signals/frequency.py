@@ -22,7 +22,7 @@ from scipy.interpolate import CubicSpline
 
 from eventlab.errors import SignalError
 from eventlab.signals.phasors import FilterKind, dft_phasors, window_length
-from eventlab.symmetrical import abc_to_012
+from eventlab.signals.sequence import sequence_phasors
 
 
 def frequency_from_phasor(phasor, sample_rate_hz: float, nominal_hz: float,
@@ -88,13 +88,13 @@ def estimate_frequency(v_abc, samples_per_cycle: int, sample_rate_hz: float,
     if seg.shape[-1] < 2 * n:
         raise SignalError(f"frequency estimate: {seg.shape[-1]} samples; expected at "
                           f"least two cycles ({2 * n})")
-    v1 = abc_to_012(dft_phasors(seg, n))[1]
+    v1 = sequence_phasors(dft_phasors(seg, n))[1]
     f = frequency_from_phasor(v1, sample_rate_hz, nominal_hz)
     for _ in range(max(0, int(iterations))):
         if abs(f - nominal_hz) < 1e-6 * nominal_hz:
             break
         ph = tracked_phasors(seg, sample_rate_hz, f, nominal_hz, samples_per_cycle=n)
-        v1 = abc_to_012(ph)[1]
+        v1 = sequence_phasors(ph)[1]
         # tracked phasors are referred to the nominal reference: their rotation
         # still measures f - f0, now without leakage ripple
         f = frequency_from_phasor(v1, sample_rate_hz, nominal_hz)

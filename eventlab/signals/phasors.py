@@ -93,8 +93,8 @@ def _moving_sum(y: np.ndarray, length: int) -> np.ndarray:
 
 def _rotator(n_samples: int, samples_per_cycle: int) -> np.ndarray:
     """``exp(-j 2 pi m / N)`` for m = 0 .. n_samples-1 (exact per-cycle table)."""
-    m = np.arange(n_samples) % samples_per_cycle
-    return np.exp(-2j * np.pi * m / samples_per_cycle)
+    table = np.exp(-2j * np.pi * np.arange(samples_per_cycle) / samples_per_cycle)
+    return np.resize(table, n_samples)
 
 
 # ---------------------------------------------------------------- DFT filters

@@ -20,6 +20,7 @@ from eventlab.errors import SignalError
 from eventlab.faulttypes import NO_FAULT, faulted_phases
 from eventlab.signals.classify import Classification, classify_fault
 from eventlab.signals.phasors import dft_phasors, estimate_decay_tau, window_phasor
+from eventlab.signals.sequence import sequence_phasors
 from eventlab.signals.windows import Window, fault_window, prefault_window
 from eventlab.symmetrical import abc_to_012
 
@@ -272,18 +273,17 @@ def fault_indicator(v_ph, i_ph, live, v1_ref: float, i_scale: float) -> np.ndarr
     pole, ``|V1| < 0.9 V1ref`` or ``|V2|``, ``|V0|`` > 0.05 ``V1ref``
     (common practice, no source).
     """
-    i012 = abc_to_012(np.nan_to_num(i_ph))
+    i012 = sequence_phasors(i_ph)
     m0, m1, m2 = np.abs(i012)
     base = np.maximum(m1, i_scale)
     floor = 0.05 * i_scale
     f = ((m2 > NEG_ZERO_RATIO * base) & (m2 > floor)) | ((m0 > NEG_ZERO_RATIO * base)
                                                           & (m0 > floor))
     if v1_ref > 0:
-        v012 = abc_to_012(np.nan_to_num(v_ph))
-        vm0, vm1, vm2 = np.abs(v012)
+        vm0, vm1, vm2 = np.abs(sequence_phasors(v_ph))
         f |= live & ((vm1 < V_SAG * v1_ref) | (vm2 > V_UNBAL * v1_ref)
                      | (vm0 > V_UNBAL * v1_ref))
-    f &= np.isfinite(i_ph).all(axis=0)
+    # NaN compares False above: the first incomplete window never shows a fault
     return f
 
 
@@ -351,13 +351,17 @@ def build_timeline(time_s, v_abc, i_abc, samples_per_cycle: int, *,
     i_ph = dft_phasors(i, n) if i_ph is None else np.asarray(i_ph)
 
     # references from the first full window and the record as a whole
-    k_ref = n - 1
-    v1_all = np.abs(abc_to_012(np.nan_to_num(v_ph[:, n - 1:]))[1])
+    finite = np.nonzero(np.isfinite(v_ph).all(axis=0) & np.isfinite(i_ph).all(axis=0))[0]
+    if not finite.size:
+        raise SignalError("no complete phasor window in the record; expected at least one "
+                          "cycle of data")
+    k_ref = int(finite[0])
+    v1_all = np.abs(sequence_phasors(v_ph[:, finite])[1])
     v1_first = float(v1_all[0])
     v1_med = float(np.median(v1_all))
     v1_ref = v1_first if v1_first >= 0.5 * v1_med else v1_med
     i1_first = float(abs(abc_to_012(i_ph[:, k_ref])[1]))
-    i_peak_ph = float(np.nanmax(np.abs(i_ph[:, n - 1:])))
+    i_peak_ph = float(np.max(np.abs(i_ph[:, finite])))
     i_scale = max(i1_first, 0.05 * i_peak_ph, 1e-12)
 
     d_i = superimposed(i, n)
