@@ -89,3 +89,32 @@ def test_with_source_scales_and_keeps_original():
     assert m2.sources[1].emf_pu == 1.05 and m.sources[1].emf_pu == 1.0
     with pytest.raises(ModelError, match="exactly one source at bus 'NOPE'"):
         with_source(m, "NOPE")
+
+
+def test_toml_syntax_error_is_one_line(tmp_path):
+    p = tmp_path / "bad.toml"
+    p.write_text("[system]\nname = \n")
+    with pytest.raises(ModelError) as exc:
+        load_model(p)
+    assert str(exc.value).startswith(f"{p}: not valid TOML") and "\n" not in str(exc.value)
+
+
+def test_terminal_bus_must_be_a_line_end():
+    d = _base()
+    d["terminal"] = [{"id": "T", "line": "L", "bus": "C"}]
+    d["bus"].append({"id": "C", "kv": 110.0})
+    with pytest.raises(ModelError, match=r"\[\[terminal\]\] #1 \(id T\): key bus: bus 'C' is not "
+                       r"an end of line L"):
+        model_from_dict(d, source_name="m.toml")
+
+
+def test_vector_group_checked():
+    d = _base()
+    d["bus"].append({"id": "C", "kv": 20.0})
+    d["transformer"] = [{"id": "T", "hv_bus": "B", "lv_bus": "C", "mva": 10.0,
+                         "z_percent": 8.0, "x_r": 10.0, "vector_group": "YNd12"}]
+    with pytest.raises(ModelError, match="key vector_group: .*clock number must be 0..11"):
+        model_from_dict(d, source_name="m.toml")
+    d["transformer"][0]["vector_group"] = "YNd2"
+    with pytest.raises(ModelError, match="an even clock number is not possible"):
+        model_from_dict(d, source_name="m.toml")
