@@ -71,10 +71,10 @@ def main(argv=None) -> int:
         size_mb = Path(dat).stat().st_size / 1e6
         with warnings.catch_warnings():
             warnings.simplefilter("ignore")
-            t_ref = best_of(lambda: comtrade.load(cfg, dat, use_numpy_arrays=True))
+            t_ref = best_of(lambda c=cfg, d=dat: comtrade.load(c, d, use_numpy_arrays=True))
             ref32 = comtrade.load(cfg, dat, use_numpy_arrays=True)
             ref64 = comtrade.load(cfg, dat, use_numpy_arrays=True, use_double_precision=True)
-        t_own = best_of(lambda: read_record(cfg, values="primary"))
+        t_own = best_of(lambda c=cfg: read_record(c, values="primary"))
         own = read_record(cfg, values="primary")
         same = all(np.array_equal(ch.values, ref64.analog[k], equal_nan=True)
                    and np.array_equal(ch.values.astype(np.float32), ref32.analog[k],
