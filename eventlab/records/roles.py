@@ -326,3 +326,51 @@ def channel_roles(record: Record, channel_map: Mapping[str, str] | None = None
                 if k is not None and not s_roles[k]:
                     s_roles[k] = f"{t.label} {kind}" if many and t.label else kind
     return a_roles, s_roles
+
+
+def find_channel(record: Record, role: str, *, label: str | None = None,
+                 channel_map: Mapping[str, str] | None = None
+                 ) -> AnalogChannel | StatusChannel | None:
+    """Look a channel up by role: ``VA VB VC IA IB IC IN VN IP`` (analog, in SI
+    units) or ``TRIP`` / ``BKR`` (the first such status channel).
+
+    Parameters
+    ----------
+    record : Record
+    role : str
+    label : str, optional
+        The terminal (circuit) when the record holds several.
+    channel_map : mapping, optional
+        As for :func:`map_terminals`.
+
+    Returns
+    -------
+    AnalogChannel, StatusChannel or None
+        None when the terminal has no channel in an optional role (IN, VN,
+        IP, TRIP, BKR).
+
+    Raises
+    ------
+    ChannelMapError
+        No terminal, an unknown label, or several terminals and no label.
+    """
+    key = role.strip().upper()
+    if key not in REQUIRED + OPTIONAL + ("TRIP", "BKR"):
+        raise ValueError(f"unknown role {role!r}; expected one of "
+                         f"{', '.join(REQUIRED + OPTIONAL)}, TRIP, BKR")
+    terms = map_terminals(record, channel_map)
+    if label is not None:
+        terms = tuple(t for t in terms if t.label == label)
+        if not terms:
+            raise ChannelMapError(f"{record.source or record.station}: no terminal {label!r}")
+    if len(terms) > 1:
+        labels = ", ".join(t.label for t in terms)
+        raise ChannelMapError(f"{record.source or record.station}: several terminals "
+                              f"({labels}); name one with label=")
+    t = terms[0]
+    table = {"VA": t.voltages[0], "VB": t.voltages[1], "VC": t.voltages[2],
+             "IA": t.currents[0], "IB": t.currents[1], "IC": t.currents[2],
+             "IN": t.neutral_current, "VN": t.neutral_voltage, "IP": t.parallel_residual,
+             "TRIP": t.trips[0] if t.trips else None,
+             "BKR": t.breakers[0] if t.breakers else None}
+    return table[key]

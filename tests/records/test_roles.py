@@ -99,3 +99,18 @@ def test_error_lists_found_and_missing():
     msg = str(err.value)
     assert "found CR1: IA IB VA VB VC" in msg and "CR1 lacks IC" in msg
     assert channel_roles(rec) == ([""] * 5, [])
+
+
+def test_find_channel_by_role():
+    from eventlab.records.roles import find_channel
+
+    analog = terminal_channels(prefix="L01 ", i_unit="kA") + terminal_channels(prefix="L02 ")
+    rec = make_record("X", 1000.0, analog, [("L02 TRIP", Z)])
+    ib = find_channel(rec, "IB", label="L01")
+    assert ib.name == "L01 IB" and ib.unit == "A" and ib.values[0] == 2000.0
+    assert find_channel(rec, "TRIP", label="L02").name == "L02 TRIP"
+    assert find_channel(rec, "TRIP", label="L01") is None
+    with pytest.raises(ChannelMapError, match="several terminals"):
+        find_channel(rec, "IA")
+    with pytest.raises(ChannelMapError, match="no terminal 'L09'"):
+        find_channel(rec, "IA", label="L09")
