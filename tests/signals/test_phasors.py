@@ -4,6 +4,8 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
+from hypothesis import given
+from hypothesis import strategies as st
 from sigtools import cosine_wave, reference_phasor_at_centre, tve
 
 from eventlab.errors import SignalError
@@ -141,3 +143,20 @@ def test_bad_kind_rejected():
 
 def test_short_record_all_nan():
     assert np.isnan(dft_phasors(np.ones(10), 16)).all()
+
+
+@given(n=st.sampled_from([16, 20, 24, 32, 48, 64, 96, 128, 192, 256]),
+       kind=st.sampled_from(FILTER_KINDS),
+       xm=st.floats(1e-3, 1e6), phi=st.floats(-np.pi, np.pi),
+       dc=st.floats(-1e3, 1e3))
+def test_property_any_rate_amplitude_phase(n, kind, xm, phi, dc):
+    # C37.118.1-2011 TVE at nominal frequency, any amplitude/angle, 16..256 samples a cycle;
+    # full and cosine filters also reject a constant (DC) term
+    x = cosine_wave(np.array([xm]), 60.0, np.array([phi]), n * 60.0, 3 * n)
+    if kind != "half":
+        x = x + dc
+    L = window_length(n, kind)
+    ph = dft_phasors(x, n, kind)[:, L - 1:]
+    ref = xm / np.sqrt(2) * np.exp(1j * phi)
+    assert np.max(tve(ph, ref)) <= TVE_LIMIT
+    assert np.max(np.abs(ph - ref)) <= 1e-9 * (xm + abs(dc))
