@@ -411,12 +411,13 @@ def classical_fault_currents_012(code: str, z_th_012: np.ndarray, v_pre_pu: comp
 
 # ----------------------------------------------------------------------------- solving
 
+_NET_CACHE_SIZE = 8
+
+
 def _network(model: NetworkModel, spec: FaultSpec | None) -> SequenceNetwork:
-    if spec is None:
-        key = ("net", None, None, None)
-    else:
-        key = ("net", spec.line, spec.fraction, spec.bus)
-    cache = model._cache
+    """Sequence networks for a fault position, from a small per-model cache."""
+    key = (None, None, None) if spec is None else (spec.line, spec.fraction, spec.bus)
+    cache = model._cache.setdefault("nets", {})
     net = cache.get(key)
     if net is None:
         if spec is None:
@@ -424,9 +425,8 @@ def _network(model: NetworkModel, spec: FaultSpec | None) -> SequenceNetwork:
         else:
             net = build_sequence_networks(model, line=spec.line, fraction=spec.fraction,
                                           bus=spec.bus)
-        if len(cache) > 64:
-            for k in [k for k in cache if k[0] == "net"]:
-                del cache[k]
+        if len(cache) >= _NET_CACHE_SIZE:
+            del cache[next(iter(cache))]
         cache[key] = net
     return net
 
