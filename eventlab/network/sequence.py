@@ -37,7 +37,8 @@ from eventlab.errors import ModelError
 from eventlab.network.model import Line, LineSection, NetworkModel
 from eventlab.network.perunit import transformer_z_pu, voltage_zones, z_base_ohm
 
-_EPS_KM = 1e-9
+#: a fault point closer than this to a node (bus, section joint) is put on the node [km]
+_EPS_KM = 1e-6
 
 
 @dataclass
