@@ -12,7 +12,7 @@ Fields ``location`` and ``comparison`` are reserved for the model-based steps
 from __future__ import annotations
 
 from collections.abc import Mapping, Sequence
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from types import MappingProxyType
 from typing import Any
 
@@ -86,10 +86,11 @@ class RecordInfo:
     trigger: str | None
     trigger_s: float | None      # trigger from the first sample [s]
     sample_rate_hz: float
-    samples_per_cycle: int
+    samples_per_cycle: int       # of the phasors and timeline (after resampling)
     nominal_frequency_hz: float
     frequency_hz: float | None   # estimated from the pre-fault positive-sequence voltage
     tracked: bool                # phasors re-estimated with frequency tracking
+    resampled: bool              # rate not a whole number of samples per cycle: resampled
     n_samples: int
     duration_s: float
     n_analog: int
@@ -253,26 +254,52 @@ def _terminal_dict(t: TerminalAnalysis, f0: float) -> dict:
 
 
 # ------------------------------------------------------------------ the chain
-def _samples_per_cycle(record: Record) -> int:
+def _rate(record: Record) -> tuple[float, int, bool]:
+    """(sample rate [Hz], samples per cycle used, resampled?) of a fixed-rate record.
+
+    A rate that is not a whole number of samples per nominal cycle is
+    resampled (Akima) to the next multiple of four samples per cycle, at
+    least 16.
+    """
     t = record.time
+    where = record.source or record.station
     if record.n_samples < 2:
-        raise SignalError(f"{record.source or record.station}: record holds "
-                          f"{record.n_samples} samples; expected several cycles")
+        raise SignalError(f"{where}: record holds {record.n_samples} samples; expected "
+                          f"several cycles")
     d = np.diff(t)
     dt = float(np.median(d))
     if dt <= 0 or np.max(np.abs(d - dt)) > 0.01 * dt:
-        raise SignalError(f"{record.source or record.station}: sample rate changes within the "
-                          f"record; expected one fixed rate (field samp)")
+        raise SignalError(f"{where}: sample rate changes within the record; expected one "
+                          f"fixed rate (field samp)")
     fs = 1.0 / dt
     f0 = record.frequency_hz
     if not (f0 and np.isfinite(f0) and f0 > 0):
-        raise SignalError(f"{record.source or record.station}: field lf = {f0!r}; expected the "
-                          f"nominal line frequency")
+        raise SignalError(f"{where}: field lf = {f0!r}; expected the nominal line frequency")
     n = fs / f0
-    if abs(n - round(n)) > 0.01 or round(n) < 8:
-        raise SignalError(f"{record.source or record.station}: {fs:.6g} Hz is {n:.4g} samples "
-                          f"per {f0:g} Hz cycle; expected a whole number of at least 8")
-    return int(round(n))
+    if n < 8:
+        raise SignalError(f"{where}: {fs:.6g} Hz is {n:.4g} samples per {f0:g} Hz cycle; "
+                          f"expected at least 8")
+    if abs(n - round(n)) <= 1e-3 * n:
+        return fs, int(round(n)), False
+    return fs, max(16, 4 * int(np.ceil(n / 4.0))), True
+
+
+def _resampled(term: TerminalChannels, t: np.ndarray, t_new: np.ndarray):
+    """Terminal waveforms and status channels on the new time grid.
+
+    Akima interpolation (H. Akima, J. ACM 17(4), 1970): local, so a fault's
+    step does not ring back into the pre-fault samples the way a global cubic
+    spline does (the inception detector would see that ringing); its phasor
+    error at 16.7 samples a cycle is about 0.05 %.
+    """
+    from scipy.interpolate import Akima1DInterpolator
+
+    v = Akima1DInterpolator(t, term.v_abc, axis=1)(t_new)
+    i = Akima1DInterpolator(t, term.i_abc, axis=1)(t_new)
+    idx = np.clip(np.searchsorted(t, t_new, side="right") - 1, 0, t.size - 1)
+    trips = tuple(replace(ch, values=np.asarray(ch.values)[idx]) for ch in term.trips)
+    bkrs = tuple(replace(ch, values=np.asarray(ch.values)[idx]) for ch in term.breakers)
+    return v, i, trips, bkrs
 
 
 def _iso(dt) -> str | None:
@@ -282,13 +309,17 @@ def _iso(dt) -> str | None:
 def _terminal(record: Record, k_rec: int, term: TerminalChannels, n: int, fs: float,
               opts: AnalysisOptions, warnings: list[str]) -> tuple[TerminalAnalysis, float | None,
                                                                    bool]:
-    v = term.v_abc
-    i = term.i_abc
-    t = record.time
     f0 = record.frequency_hz
+    if abs(fs - n * f0) > 1e-6 * fs:
+        t = np.arange(int(np.floor(record.time[-1] * n * f0)) + 1) / (n * f0)
+        v, i, trips, bkrs = _resampled(term, record.time, t)
+        fs = n * f0
+    else:
+        t = record.time
+        v, i, trips, bkrs = term.v_abc, term.i_abc, term.trips, term.breakers
     v_ph = dft_phasors(v, n, opts.filter)
     i_ph = dft_phasors(i, n, opts.filter)
-    tl = build_timeline(t, v, i, n, trips=term.trips, breakers=term.breakers, v_ph=v_ph,
+    tl = build_timeline(t, v, i, n, trips=trips, breakers=bkrs, v_ph=v_ph,
                         i_ph=i_ph, mitigate_offset=opts.mitigate_offset, tau_s=opts.tau_s)
     # frequency from the pre-fault part (or the whole record without a fault)
     stop = record.n_samples
@@ -308,7 +339,7 @@ def _terminal(record: Record, k_rec: int, term: TerminalChannels, n: int, fs: fl
             and abs(f_est - f0) < 0.5 * f0):
         v_ph = tracked_phasors(v, fs, f_est, f0, samples_per_cycle=n, kind=opts.filter)
         i_ph = tracked_phasors(i, fs, f_est, f0, samples_per_cycle=n, kind=opts.filter)
-        tl = build_timeline(t, v, i, n, trips=term.trips, breakers=term.breakers, v_ph=v_ph,
+        tl = build_timeline(t, v, i, n, trips=trips, breakers=bkrs, v_ph=v_ph,
                             i_ph=i_ph, mitigate_offset=opts.mitigate_offset, tau_s=opts.tau_s)
         tracked = True
     roles = term.roles()
@@ -349,11 +380,12 @@ def _terminal(record: Record, k_rec: int, term: TerminalChannels, n: int, fs: fl
             i012p = abc_to_012(np.array([pre[nm] for nm in names_i]))
         v012f = abc_to_012(np.asarray(iv.v_fault))
         i012f = abc_to_012(np.asarray(iv.i_fault))
-        k0 = iv.start_index
         last = tl.intervals[-1]
-        k1 = last.end_index if last.end_index is not None else record.n_samples
-        k1 = max(k1, k0 + 1)
-        peak = tuple(float(x) for x in np.max(np.abs(i[:, k0:k1]), axis=1))
+        # peak of the recorded samples (not of a resampled grid) from inception to the end
+        t_end = last.end_s if last.end_s is not None else float(record.time[-1])
+        k0 = int(np.searchsorted(record.time, iv.start_s))
+        k1 = max(int(np.searchsorted(record.time, t_end, side="right")), k0 + 1)
+        peak = tuple(float(x) for x in np.max(np.abs(term.i_abc[:, k0:k1]), axis=1))
     else:
         # no fault: steady phasors at the end of the first full cycle and at the record's end
         for names, ph in ((names_v, v_ph), (names_i, i_ph)):
@@ -399,8 +431,11 @@ def analyze(records: Sequence[Record] | Record, model=None, line: str | None = N
     terms: list[TerminalAnalysis] = []
     warnings: list[str] = []
     for k, rec in enumerate(records):
-        n = _samples_per_cycle(rec)
-        fs = n * rec.frequency_hz
+        fs, n, resampled = _rate(rec)
+        if resampled:
+            warnings.append(f"record {k}: {fs:g} Hz is not a whole number of samples per "
+                            f"{rec.frequency_hz:g} Hz cycle; resampled to {n} per cycle "
+                            f"({n * rec.frequency_hz:g} Hz) for the phasors and the timeline")
         cmap = opts.channel_maps.get(k)
         found = map_terminals(rec, cmap)
         f_first, tracked_any = None, False
@@ -419,7 +454,7 @@ def analyze(records: Sequence[Record] | Record, model=None, line: str | None = N
             revision=rec.revision, data_format=rec.data_format, start=_iso(rec.start),
             trigger=_iso(rec.trigger), trigger_s=trig_s, sample_rate_hz=fs,
             samples_per_cycle=n, nominal_frequency_hz=rec.frequency_hz, frequency_hz=f_first,
-            tracked=tracked_any, n_samples=rec.n_samples, duration_s=rec.duration_s,
+            tracked=tracked_any, resampled=resampled, n_samples=rec.n_samples, duration_s=rec.duration_s,
             n_analog=len(rec.analog), n_status=len(rec.status), values=rec.values))
     primary = next((j for j, t in enumerate(terms) if t.fault_type != "none"),
                    0 if terms else None)

@@ -153,9 +153,9 @@ def test_errors():
                                           "values": e["i_abc"][0]}], frequency_hz=60.0)
     with pytest.raises(ChannelMapError):
         analyze(rec)
-    odd = record_of(dict(e, fs_hz=1000.0))
+    slow = record_of(dict(e, fs_hz=400.0))          # 6.7 samples a cycle
     with pytest.raises(SignalError, match="samples per"):
-        analyze(odd)
+        analyze(slow)
     with pytest.raises(SignalError):
         AnalysisOptions(filter="sine")
 
@@ -173,3 +173,15 @@ def test_fault_window_current_with_offset_mitigation(inception_s):
     plain = analyze(record_of(e), options=AnalysisOptions(mitigate_offset=False)).terminals[0]
     # the window one cycle after inception still holds offset: the plain DFT is further off
     assert abs(abs(plain.fault["IA"]) / abs(ref[0]) - 1) > abs(abs(t.fault["IA"]) / abs(ref[0]) - 1)
+
+
+def test_rate_not_a_multiple_of_the_nominal_is_resampled():
+    # 1000 Hz on 60 Hz (16.7 samples a cycle), as some relays record
+    e = fw.fault_event("BCG", 0.0507, sample_rate_hz=1000.0)
+    a = analyze(record_of(e))
+    assert a.records[0].resampled and a.records[0].samples_per_cycle == 20
+    assert a.warnings and "resampled" in a.warnings[0]
+    assert a.fault_type == "BCG"
+    # within one sample of the recorded rate
+    assert abs(a.terminals[0].timeline.inception_s - e["truth"]["inception_s"]) <= 1e-3
+    assert a.terminals[0].peak_a[1] == pytest.approx(np.abs(e["i_abc"][1]).max(), rel=1e-9)
