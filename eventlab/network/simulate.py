@@ -241,7 +241,9 @@ def _fault_code(name: str, code: str) -> str:
 class Truth:
     """What was simulated: the answer a record analysis should find.
 
-    Times are [s] from the first sample of the records.
+    Times are [s] from the first sample of the records.  ``distance_km`` is
+    from the line's ``from`` bus; ``distance_from_km`` gives the distance from
+    each terminal of the faulted line.
     """
 
     model: str
@@ -266,6 +268,7 @@ class Truth:
     line_model: str
     nearest_structure: str | None
     stations: Mapping[str, str]
+    distance_from_km: Mapping[str, float] = field(default_factory=dict)
     notes: str = ""
 
     def to_dict(self) -> dict:
@@ -274,6 +277,7 @@ class Truth:
         d["trip_s"] = {k: list(v) for k, v in self.trip_s.items()}
         d["pole_open_s"] = {k: [list(x) for x in v] for k, v in self.pole_open_s.items()}
         d["stations"] = dict(self.stations)
+        d["distance_from_km"] = dict(self.distance_from_km)
         return d
 
 
@@ -876,6 +880,10 @@ def simulate(model: NetworkModel, spec: SimulationSpec) -> SimulationResult:
         frequency_hz=float(f), samples_per_cycle=spec.samples_per_cycle,
         steps_per_cycle=spc_int, line_model=mode, nearest_structure=nearest,
         stations={t.id: t.station for t in model.terminals},
+        distance_from_km={t.id: round(float(distance_km if t.bus == fline.from_bus
+                                            else fline.length_km - distance_km), 6)
+                          for t in model.terminals_of_line(fline.id)}
+        if spec.type != NO_FAULT else {},
     )
     return SimulationResult(records=records, truth=truth, terminals=terms)
 

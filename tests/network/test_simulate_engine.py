@@ -346,6 +346,8 @@ def test_truth_file_matches_the_spec(tmp_path):
     assert truth["clear_s"] == max(truth["pole_open_s"]["W-L1"][0]
                                    + truth["pole_open_s"]["E-L1"][0])
     assert truth["stations"] == {"W-L1": "WEST", "E-L1": "EAST SIDE"}
+    assert truth["distance_from_km"] == {"W-L1": pytest.approx(32.0),
+                                         "E-L1": pytest.approx(48.0)}
 
 
 def test_model_features_the_simulator_cannot_represent():
