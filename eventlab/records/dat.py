@@ -28,6 +28,7 @@ from __future__ import annotations
 
 import io
 import re
+import warnings
 from dataclasses import dataclass
 
 import numpy as np
@@ -130,13 +131,15 @@ def decode_binary(buf: bytes, info: CfgInfo, path: str | None = None) -> DatData
 
 def _ascii_table_fast(buf: bytes, n_cols: int, n_rows: int) -> np.ndarray | None:
     """Parse a well-formed ASCII table with numpy's C parser, or None if it is not."""
-    if n_rows == 0:
+    if n_rows == 0 or not buf.strip():
         return None
     for dtype in (np.int64, np.float64):  # integers parse several times faster
         try:
-            table = np.loadtxt(io.BytesIO(buf), delimiter=",", dtype=dtype, ndmin=2,
-                               comments=None, encoding="latin-1")
-        except (ValueError, IndexError, OverflowError):
+            with warnings.catch_warnings():
+                warnings.simplefilter("error")   # any doubt: the exact parser decides
+                table = np.loadtxt(io.BytesIO(buf), delimiter=",", dtype=dtype, ndmin=2,
+                                   comments=None, encoding="latin-1")
+        except (ValueError, IndexError, OverflowError, Warning):
             continue
         if table.shape != (n_rows, n_cols):
             return None

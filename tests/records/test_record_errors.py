@@ -234,3 +234,14 @@ def test_random_bytes_as_cfg(raw):
         parse_cfg(decode_text(raw, "r.cfg"), "r.cfg")
     except RecordFormatError:
         pass
+
+
+@given(st.one_of(st.binary(max_size=200),
+                 st.text(alphabet="0123456789,.-+e \n\r", max_size=200).map(str.encode)))
+def test_random_bytes_as_dat(raw):
+    for cfg in (GOOD_CFG, ASCII_CFG):
+        try:
+            rec = record_from_bytes(cfg.encode(), raw, cfg_name="r.cfg", dat_name="r.dat")
+        except RecordFormatError:
+            continue
+        assert rec.n_samples == 4
