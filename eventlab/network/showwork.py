@@ -41,6 +41,8 @@ def _c(z: complex, digits: int = 5) -> str:
 
 def _p(z: complex, unit: str = "", digits: int = 4) -> str:
     mag, ang = polar_deg(z)
+    if abs(ang) < 5e-4:  # print 0.000, not -0.000
+        ang = 0.0
     u = f" {unit}" if unit else ""
     return f"{mag:.{digits}f}{u} at {ang:8.3f} deg"
 
@@ -62,6 +64,41 @@ def _interconnection_text(code: str, ref: str) -> list[str]:
                 "  I0 = -I1 (Z2 + Rf) / (Z2 + Z0 + 2 Rf + 3 Rg)"]
     return ["three-phase: the positive-sequence network alone",
             "  I1 = V / (Z1 + Rf),  I2 = I0 = 0"]
+
+
+def _two_source_check(model: NetworkModel, result: FaultResult) -> list[str]:
+    """Hand formula of the Thevenin impedances for a single line between two sources."""
+    spec = result.spec
+    if (spec.line is None or len(model.lines) != 1 or model.transformers
+            or len(model.buses) != 2 or len(model.sources) != 2
+            or any(sec.c1_nf_per_km or sec.c0_nf_per_km for sec in model.lines[0].sections)):
+        return []
+    ln = model.lines[0]
+    try:
+        s_from = next(s for s in model.sources if s.bus == ln.from_bus)
+        s_to = next(s for s in model.sources if s.bus == ln.to_bus)
+    except StopIteration:
+        return []
+    zb = z_base_ohm(model.bus(ln.from_bus).kv, model.system.base_mva)
+    x = spec.fraction * ln.length_km
+    out = [f"   by hand: Z = (Zs + Z_line(0..{x:.3f} km)) || (Zr + Z_line({x:.3f}..{ln.length_km:g}"
+           f" km)), Zs at {ln.from_bus}, Zr at {ln.to_bus}"]
+    for name, k in (("Z1", 1), ("Z2", 2), ("Z0", 0)):
+        za = {0: s_from.z0_ohm, 1: s_from.z1_ohm, 2: s_from.z2_ohm}[k]
+        zr = {0: s_to.z0_ohm, 1: s_to.z1_ohm, 2: s_to.z2_ohm}[k]
+        pos = 0.0
+        near = 0j
+        far = 0j
+        for sec in ln.sections:
+            zkm = sec.z0_ohm_per_km if k == 0 else sec.z1_ohm_per_km
+            a, b = pos, pos + sec.length_km
+            near += zkm * max(0.0, min(b, x) - a)
+            far += zkm * max(0.0, b - max(a, x))
+            pos = b
+        z1 = (za + near) / zb
+        z2 = (zr + far) / zb
+        out.append(f"     {name} = ({_c(z1)}) || ({_c(z2)}) = {_c(z1 * z2 / (z1 + z2))} pu")
+    return out
 
 
 def show_work(model: NetworkModel, result: FaultResult) -> list[str]:
@@ -98,6 +135,15 @@ def show_work(model: NetworkModel, result: FaultResult) -> list[str]:
         add(f"   line {ln.id} {ln.from_bus}-{ln.to_bus} ({ln.length_km:g} km, "
             f"{len(ln.sections)} section{'s' if len(ln.sections) > 1 else ''}): "
             f"Z1 = {_c(ln.z1_ohm / zb)}, Z0 = {_c(ln.z0_ohm / zb)} pu")
+        if len(ln.sections) > 1:
+            pos = 0.0
+            for j, sec in enumerate(ln.sections, 1):
+                add(f"      section {j}: {pos:.4f}-{pos + sec.length_km:.4f} km, "
+                    f"z1 = {_c(sec.z1_ohm_per_km * sec.length_km / zb)}, "
+                    f"z0 = {_c(sec.z0_ohm_per_km * sec.length_km / zb)} pu")
+                pos += sec.length_km
+        if any(sec.c1_nf_per_km for sec in ln.sections):
+            add("      shunt capacitance as nominal pi per piece: B = 2 pi f C l, half at each end")
         if ln.mutual is not None:
             zm = ln.mutual.z0m_ohm_per_km * ln.length_km / zb
             add(f"      zero-sequence mutual with {ln.mutual.line}: Z0m = {_c(zm)} pu")
@@ -115,9 +161,14 @@ def show_work(model: NetworkModel, result: FaultResult) -> list[str]:
     ref = reference_phase(spec.type)
     add("3. Pre-fault voltage and Thevenin sequence impedances at the fault point "
         f"({f.node}, {f.kv:g} kV)")
+    add("   pre-fault: the source EMFs drive the linear network, Y1 V = sum(E / Z1); "
+        "the fault by superposition")
     add(f"   V_pre (phase A) = {_p(f.v_pre_pu, 'pu', 5)}")
+    add("   Z0, Z1, Z2 = diagonal entry of the inverse sequence admittance matrix at the "
+        "fault point")
     for k, name in ((1, "Z1"), (2, "Z2"), (0, "Z0")):
         add(f"   {name} = {_c(f.z_thevenin_pu[k])} pu = {_c(f.z_thevenin_ohm[k], 3)} ohm")
+    out.extend(_two_source_check(model, result))
     add(f"   Rf = {spec.r_fault_ohm:g} ohm = {f.r_fault_pu:.6f} pu;  Rg = {spec.r_ground_ohm:g} "
         f"ohm = {f.r_ground_pu:.6f} pu")
 

@@ -1,6 +1,7 @@
 """`eventlab fault`: options, JSON contract, --show-work, errors."""
 
 import json
+import re
 from pathlib import Path
 
 import numpy as np
@@ -90,3 +91,13 @@ def test_errors_are_one_line_exit_2(capsys, argv, expect):
     rc, out, err = _run(capsys, *argv)
     assert rc == 2 and out == ""
     assert err.count("\n") == 1 and expect in err
+
+
+def test_show_work_hand_check_of_thevenin_impedances(capsys):
+    rc, out, _ = _run(capsys, "--at", "0.4", "--type", "AG", "--show-work")
+    assert rc == 0
+    # the two branches in parallel, printed by hand, equal the matrix result (5 decimals)
+    for name in ("Z1", "Z0"):
+        hand = re.search(rf"^     {name} = .* = (.*) pu$", out, re.M).group(1)
+        solved = re.search(rf"^   {name} = (.*) pu = .* ohm$", out, re.M).group(1)
+        assert hand == solved
