@@ -696,7 +696,7 @@ def simulate(model: NetworkModel, spec: SimulationSpec) -> SimulationResult:
     st = Stepper(circuit, dt, closed, np.array(watch), n_total)
 
     # ---- point on wave
-    local_key = _local_key(model, fline, lay)
+    local_key = _local_key(model, fline)
     inception_s = None
     inc_angle = None
     if spec.type != NO_FAULT:
@@ -717,6 +717,8 @@ def simulate(model: NetworkModel, spec: SimulationSpec) -> SimulationResult:
         inception_s = n_inc * dt
         ph = omega * inception_s + np.angle(va_peak) + math.pi / 2.0
         inc_angle = math.degrees(ph) % 360.0
+        if inc_angle > 360.0 - 1e-9:
+            inc_angle = 0.0
 
     # ---- events: (step, kind, payload)
     events: list[tuple[int, int, str, object]] = []
@@ -747,13 +749,9 @@ def simulate(model: NetworkModel, spec: SimulationSpec) -> SimulationResult:
     reclose_s = None
     evolve_s = None
     clear_s = None
-    n_trips = 0
 
     def breaker_state(key):
         return tuple(pole_closed[key])
-
-    def apply(changes: dict[str, tuple[bool, ...]]) -> None:
-        st.switch(changes)
 
     while st.n < n_total:
         n_next = min([e[0] for e in events], default=n_total)
@@ -803,7 +801,6 @@ def simulate(model: NetworkModel, spec: SimulationSpec) -> SimulationResult:
                 if fault_slot == 1:
                     evolve_s = now_s
             elif kind == "trip":
-                n_trips += 1
                 for k in lay.faulted_breakers:
                     trip_on[k].append(now_s)
             elif kind == "open":
@@ -826,7 +823,7 @@ def simulate(model: NetworkModel, spec: SimulationSpec) -> SimulationResult:
                 for g in lay.load_groups:
                     changes[g] = (True, True, True)
         if changes:
-            apply(changes)
+            st.switch(changes)
     # trip status still high at the end
     out = st.out
 
@@ -859,8 +856,7 @@ def simulate(model: NetworkModel, spec: SimulationSpec) -> SimulationResult:
         if spec.noise > 0:
             v_sec = v_sec + rng.normal(0.0, spec.noise * vt[1] / math.sqrt(3.0), v_sec.shape)
             i_sec = i_sec + rng.normal(0.0, spec.noise * ct[1], i_sec.shape)
-        status = _status_waveforms(t_rec, key, trip_on, trip_off, pole_closed, opened,
-                                   reclose_s, lay)
+        status = _status_waveforms(t_rec, key, trip_on, trip_off, opened, reclose_s)
         records[t.id] = _make_record(model, t, spec, t_rec, v_sec * vt_n, i_sec * ct_n,
                                      vt, ct, status, trigger_s)
 
@@ -896,7 +892,7 @@ def _term_id(model: NetworkModel, key: str) -> str:
     return key
 
 
-def _local_key(model: NetworkModel, line: Line, lay: _Layout) -> str:
+def _local_key(model: NetworkModel, line: Line) -> str:
     for t in model.terminals:
         if t.line == line.id:
             return f"{line.id}@{t.bus}"
@@ -913,7 +909,7 @@ def _fault_changes(lay: _Layout, slot: int) -> dict[str, tuple[bool, ...]]:
     return ch
 
 
-def _status_waveforms(t_rec, key, trip_on, trip_off, pole_closed, opened, reclose_s, lay):
+def _status_waveforms(t_rec, key, trip_on, trip_off, opened, reclose_s):
     """TRIP and 52A-A/B/C as 0/1 arrays on the record time base."""
     n = t_rec.size
     trip = np.zeros(n, np.uint8)
@@ -929,9 +925,6 @@ def _status_waveforms(t_rec, key, trip_on, trip_off, pole_closed, opened, reclos
                 t_close = reclose_s if (reclose_s is not None and reclose_s > cyc[p]
                                         and i == 0) else math.inf
                 poles[p, (t_rec >= cyc[p] - 1e-12) & (t_rec < t_close - 1e-12)] = 0
-    if key not in opened:
-        # breakers opened without the fault logic (not on the faulted line): never
-        pass
     return trip, poles
 
 

@@ -271,6 +271,22 @@ def test_no_fault_load_step_record():
     assert np.all(after > before * 1.1)
 
 
+def test_no_fault_line_opening_record():
+    result = simulate(_model(), SimulationSpec(line="L1", fraction=0.0, type="none",
+                                               open_line_s=0.1, duration_s=0.25, **FAST))
+    for tid, rec in result.records.items():
+        assert not rec.status_by_name("TRIP").values.any()
+        opens = result.truth.pole_open_s[tid][0]
+        assert all(0.1 <= t <= 0.1 + 0.5 / 60.0 + 1e-3 for t in opens)
+        late = rec.time > max(opens) + 0.002
+        for p, role in enumerate(ROLES_I):
+            i = rec.analog_by_name(role).values
+            assert np.abs(i[late]).max() < 1.0
+            assert np.abs(i[rec.time < 0.09]).max() > 100.0
+            assert not rec.status_by_name(f"52A-{'ABC'[p]}").values[late].any()
+    assert result.truth.clear_s is None and result.truth.distance_from_km == {}
+
+
 def test_ct_saturation_clips_the_secondary_current():
     kw = dict(fraction=0.05, type="AG", r_fault_ohm=0.2, inception_angle_deg=0.0,
               clear_after_s=None, noise=0.0, ct_ratio=(600.0, 5.0), duration_s=0.2)
