@@ -189,7 +189,8 @@ def pole_events(time_s, i_abc, samples_per_cycle: int, floor_a: float = 0.0,
 
     A pole is open from the first sample after which ``|i|`` stays under its
     threshold for at least half a cycle, until ``|i|`` exceeds it again.  The
-    threshold is ``max(floor_a, 0.03 * max|i|)`` per phase.
+    threshold is ``max(floor_a, 0.03 * max|i|)`` per phase; a phase whose
+    largest current is under ``3 floor_a`` (noise only) has no events.
 
     Parameters
     ----------
@@ -208,6 +209,8 @@ def pole_events(time_s, i_abc, samples_per_cycle: int, floor_a: float = 0.0,
     for p in range(3):
         x = i[p]
         peak = float(np.nanmax(x[start_index:])) if x[start_index:].size else 0.0
+        if peak <= 3.0 * floor_a:
+            continue            # current at the noise level: the pole state cannot be told
         thr = max(floor_a, OPEN_REL * peak)
         below = x <= thr
         # quiet[k]: samples k .. k+half-1 are all below
@@ -251,7 +254,8 @@ def status_edges(time_s, channels: Sequence, role: str) -> tuple[StatusEdge, ...
     return tuple(sorted(out, key=lambda e: e.index))
 
 
-def fault_indicator(v_ph, i_ph, live, v1_ref: float, i_scale: float) -> np.ndarray:
+def fault_indicator(v_ph, i_ph, live, v1_ref: float, i_scale: float,
+                    noise_floor_a: float = 0.0) -> np.ndarray:
     """Per-sample True where the phasors show a shunt fault.
 
     Parameters
@@ -266,6 +270,8 @@ def fault_indicator(v_ph, i_ph, live, v1_ref: float, i_scale: float) -> np.ndarr
         Current scale [A]: max of the pre-event ``|I1|`` and 5 % of the largest
         phase current phasor; the unbalance criteria need ``|I2|`` or ``|I0|``
         above 5 % of it and above 10 % of ``max(|I1|, i_scale)``.
+    noise_floor_a : float
+        Phasor noise level [A]: ``|I2|``, ``|I0|`` must also exceed it.
 
     Notes
     -----
@@ -276,7 +282,7 @@ def fault_indicator(v_ph, i_ph, live, v1_ref: float, i_scale: float) -> np.ndarr
     i012 = sequence_phasors(i_ph)
     m0, m1, m2 = np.abs(i012)
     base = np.maximum(m1, i_scale)
-    floor = 0.05 * i_scale
+    floor = max(0.05 * i_scale, noise_floor_a)
     f = ((m2 > NEG_ZERO_RATIO * base) & (m2 > floor)) | ((m0 > NEG_ZERO_RATIO * base)
                                                           & (m0 > floor))
     if v1_ref > 0:
@@ -378,7 +384,9 @@ def build_timeline(time_s, v_abc, i_abc, samples_per_cycle: int, *,
             if e.phase == PHASES[p]:
                 st[e.index:] = e.kind == "close"
         live |= st
-    fault = fault_indicator(v_ph, i_ph, live, v1_ref, i_scale)
+    # phasor noise: E|X|^2 = 2 sigma^2 / N for white noise of std sigma; eight times that
+    noise_ph_a = 8.0 * float(noise_i.max()) * np.sqrt(2.0 / n)
+    fault = fault_indicator(v_ph, i_ph, live, v1_ref, i_scale, noise_ph_a)
     runs = _runs(fault, min_len=max(n // 4, 2), max_gap=n // 2)
 
     edges = status_edges(t, trips, "trip") + status_edges(t, breakers, "breaker")
@@ -408,7 +416,7 @@ def build_timeline(time_s, v_abc, i_abc, samples_per_cycle: int, *,
                 and intervals:
             kind = "reclose"
         stages = _stages(t, v, i, v_ph, i_ph, n, fs, k_on, b, poles, kind, mitigate_offset,
-                         tau_s, d_v, d_i, peak, flags)
+                         tau_s, d_v, d_i, peak, flags, 3.0 * noise_ph_a)
         intervals.extend(stages)
         last = stages[-1]
         prev_end = (last.end_index if last.end_index is not None else b) + n // 2
@@ -458,7 +466,8 @@ def _first_trip(edges, after_s):
     return None
 
 
-def _classify_at(t, v, i, v_ph, i_ph, n, fs, k_pre_win, win: Window, tau_s, mitigate):
+def _classify_at(t, v, i, v_ph, i_ph, n, fs, k_pre_win, win: Window, tau_s, mitigate,
+                 min_current_a=0.0):
     i_pre = i_ph[:, k_pre_win.end_index] if k_pre_win is not None else np.zeros(3, complex)
     v_pre = v_ph[:, k_pre_win.end_index] if k_pre_win is not None else None
     k = win.end_index
@@ -469,12 +478,13 @@ def _classify_at(t, v, i, v_ph, i_ph, n, fs, k_pre_win, win: Window, tau_s, miti
     v_f = v_ph[:, k]
     if v_pre is not None and np.abs(v_pre).max() <= 0:
         v_pre = None
-    c = classify_fault(i_pre, i_f, v_pre, None if v_pre is None else v_f)
+    c = classify_fault(i_pre, i_f, v_pre, None if v_pre is None else v_f,
+                       min_current_a=min_current_a)
     return c, i_pre, v_pre if v_pre is not None else np.zeros(3, complex), i_f, v_f
 
 
 def _stages(t, v, i, v_ph, i_ph, n, fs, k_on, run_end, poles, kind, mitigate, tau_given,
-            d_v, d_i, peak, flags) -> list[FaultInterval]:
+            d_v, d_i, peak, flags, min_current_a=0.0) -> list[FaultInterval]:
     """The interval(s) of one disturbance: the fault and, if it evolves, its later stages."""
     n_t = t.size
     pre = prefault_window(t, k_on, n)
@@ -493,7 +503,8 @@ def _stages(t, v, i, v_ph, i_ph, n, fs, k_on, run_end, poles, kind, mitigate, ta
     if mitigate and tau is None:
         tau = estimate_decay_tau(i, n, fs, k_on + 1) if stop - k_on >= 2 * n else None
     win = fault_window(t, k_on, stop, n)
-    c, i_pre, v_pre, i_f, v_f = _classify_at(t, v, i, v_ph, i_ph, n, fs, pre, win, tau, mitigate)
+    c, i_pre, v_pre, i_f, v_f = _classify_at(t, v, i, v_ph, i_ph, n, fs, pre, win, tau, mitigate,
+                                             min_current_a)
     if win.flagged:
         flags.append(f"fault at {t[k_on]:.4f} s: {win.note}")
     # evolving fault: classify each half cycle after the fault window, before the opening
@@ -502,7 +513,7 @@ def _stages(t, v, i, v_ph, i_ph, n, fs, k_on, run_end, poles, kind, mitigate, ta
     pending = None
     while c.type != NO_FAULT and k < stop - 2:
         ck = classify_fault(i_pre, i_ph[:, k], None if pre is None else v_pre,
-                            None if pre is None else v_ph[:, k])
+                            None if pre is None else v_ph[:, k], min_current_a=min_current_a)
         cur = bounds[-1][1].type
         if ck.type != cur and ck.type != NO_FAULT:
             if pending is not None and pending[1] == ck.type:
@@ -522,13 +533,13 @@ def _stages(t, v, i, v_ph, i_ph, n, fs, k_on, run_end, poles, kind, mitigate, ta
                     # the first stage's window reached into the next stage: redo it
                     w1 = fault_window(t, k_on, k_ev, n)
                     c1, _, _, i1, v1 = _classify_at(t, v, i, v_ph, i_ph, n, fs, pre, w1,
-                                                    tau, mitigate)
+                                                    tau, mitigate, min_current_a)
                     if c1.type != NO_FAULT:
                         bounds[0] = (k_on, c1, w1, i1, v1)
                         cur = c1.type
                 w2 = fault_window(t, k_ev, stop, n, settle_cycles=0.5)
                 c2, _, _, i2, v2 = _classify_at(t, v, i, v_ph, i_ph, n, fs, pre, w2, None,
-                                                False)
+                                                False, min_current_a)
                 if c2.type == NO_FAULT or c2.type == cur:
                     c2 = ck
                 bounds.append((k_ev, c2, w2, i2, v2))
@@ -552,7 +563,15 @@ def _stages(t, v, i, v_ph, i_ph, n, fs, k_on, run_end, poles, kind, mitigate, ta
     else:
         # no pole opening here: the fault ended (remote clearing) about a window before
         # the phasor indicator dropped
-        k_end = run_end - n // 2 if run_end < n_t else None
+        k_end = None
+        if run_end < n_t:
+            # the fault's end is a disturbance too: look for its superimposed step in the
+            # two cycles before the indicator dropped, against the fault's own steady state
+            s0 = max(run_end - 2 * n, bounds[-1][0] + n + n // 2)
+            k_end = detect_onset(np.vstack([d_v, d_i]), (s0, run_end), (s0 - n // 2, s0), peak,
+                                 baseline_max=True) if s0 < run_end else None
+            if k_end is None:
+                k_end = run_end - n // 2
         by_poles = False
         if c.type != NO_FAULT and k_end is not None:
             flags.append(f"fault at {t[k_on]:.4f} s: end estimated from phasors (no pole "

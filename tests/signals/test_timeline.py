@@ -143,3 +143,16 @@ def test_superimposed_is_zero_in_steady_state():
     d = superimposed(i, n)
     assert np.isnan(d[:, :n]).all()
     assert np.nanmax(np.abs(d)) < 1e-9 * 300
+
+
+@pytest.mark.parametrize("ftype", FAULT_TYPES)
+def test_weak_infeed_end_classified_from_voltages(ftype):
+    # local source impedance 1000 times the normal one: local fault currents are under the
+    # noise; the voltages carry the event
+    weak = System(zs=(4000 + 40000j, 2000 + 20000j), load_angle_deg=2.0)
+    e = fault_event(ftype, 0.0507, system=weak, noise=0.002, seed=1)
+    tl = _timeline(e)
+    assert tl.fault_type == ftype
+    assert tl.intervals[0].classification.basis == "voltages"
+    assert abs(tl.inception_s - e["truth"]["inception_s"]) <= 0.5e-3
+    assert tl.clearing_s is not None
