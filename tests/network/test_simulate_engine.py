@@ -231,6 +231,21 @@ def test_breakers_open_at_current_zeros_after_the_clearing_delay():
             assert abs(t_change - opens[p]) <= 1.0 / rec.sample_rate_hz
 
 
+def test_no_numerical_oscillation_on_the_opened_line():
+    # An isolated R-L line (no capacitance, no source) holds no voltage once
+    # the last pole has opened (circuit theory).  The trapezoidal rule alone
+    # leaves a sustained oscillation at half the step rate on such nodes
+    # (Marti and Lin 1989); the backward-Euler half steps after each switching
+    # must suppress it.
+    result = simulate(_model(), SimulationSpec(
+        line="L1", fraction=0.4, type="BC", r_fault_ohm=1.0, inception_s=0.05,
+        clear_after_s=0.07, duration_s=0.25, samples_per_cycle=64, line_model="rl"))
+    for rec in result.records.values():
+        late = rec.time > result.truth.clear_s + 0.002
+        v = np.vstack([rec.analog_by_name(r).values for r in ROLES_V])
+        assert np.abs(v[:, late]).max() < 1e-3 * 230e3 / math.sqrt(3.0)
+
+
 def test_point_on_wave_of_the_local_phase_a_voltage():
     for angle in (0.0, 90.0, 250.0):
         result = _simple_result(inception_angle_deg=angle, noise=0.0)
