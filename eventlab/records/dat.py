@@ -129,7 +129,11 @@ def decode_binary(buf: bytes, info: CfgInfo, path: str | None = None) -> DatData
     return DatData(n, ts, raw, status, missing_code(info.data_format, info.revision))
 
 
-def _ascii_table_fast(buf: bytes, n_cols: int, n_rows: int) -> np.ndarray | None:
+_NOT_NUMERIC = re.compile(rb"[^0-9eE+\-.,\s]")
+
+
+def _ascii_table_fast(buf: bytes, n_cols: int, n_rows: int,
+                      n_analog: int = 0) -> np.ndarray | None:
     """Parse a well-formed ASCII table with numpy's C parser, or None if it is not."""
     if n_rows == 0 or not buf.strip():
         return None
@@ -146,7 +150,29 @@ def _ascii_table_fast(buf: bytes, n_cols: int, n_rows: int) -> np.ndarray | None
         if dtype is np.float64 and not np.isfinite(table).all():
             return None
         return table
-    return None
+    # empty fields (missing data): numeric text only, blanks filled with NaN; the
+    # sample number and status columns must still be whole, else the exact parser
+    if _NOT_NUMERIC.search(buf) is not None:
+        return None
+    filled = buf.rstrip()
+    for a, b in ((b",,", b",nan,"), (b",,", b",nan,"), (b",\r", b",nan\r"), (b",\n", b",nan\n")):
+        filled = filled.replace(a, b)
+    if filled.endswith(b","):
+        filled += b"nan"
+    try:
+        with warnings.catch_warnings():
+            warnings.simplefilter("error")
+            table = np.loadtxt(io.BytesIO(filled), delimiter=",", dtype=np.float64, ndmin=2,
+                               comments=None, encoding="latin-1")
+    except (ValueError, IndexError, OverflowError, Warning):
+        return None
+    if table.shape != (n_rows, n_cols) or not np.isfinite(table[:, 0]).all():
+        return None
+    if n_cols > 2 + n_analog and not np.isfinite(table[:, 2 + n_analog:]).all():
+        return None
+    if np.isinf(table).any():
+        return None
+    return table
 
 
 def decode_ascii(buf: bytes, info: CfgInfo, path: str | None = None) -> DatData:
@@ -160,7 +186,7 @@ def decode_ascii(buf: bytes, info: CfgInfo, path: str | None = None) -> DatData:
     buf = buf.replace(b"\x1a", b"")
     na, ns, n_decl = info.n_analog, info.n_status, info.n_samples
     n_cols = 2 + na + ns
-    table = _ascii_table_fast(buf, n_cols, n_decl)
+    table = _ascii_table_fast(buf, n_cols, n_decl, na)
     if table is None:
         table = _ascii_table_slow(buf, info, path)
     n_col = table[:, 0]
