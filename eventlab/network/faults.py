@@ -108,8 +108,20 @@ class FaultSpec:
         return cls(None, None, type, r_fault_ohm, r_ground_ohm, bus=bus)
 
 
+def _freeze_arrays(obj) -> None:
+    """Make every ndarray field of a result read-only (results are immutable)."""
+    for name, value in vars(obj).items():
+        if isinstance(value, np.ndarray) and not name.startswith("_"):
+            value.flags.writeable = False
+
+
+class _ReadOnlyArrays:
+    def __post_init__(self) -> None:
+        _freeze_arrays(self)
+
+
 @dataclass(frozen=True)
-class FaultPoint:
+class FaultPoint(_ReadOnlyArrays):
     """Quantities at the fault point.
 
     ``i_abc`` flows from the network into the fault [A]; ``v_abc`` line-to-ground [V];
@@ -134,7 +146,7 @@ class FaultPoint:
 
 
 @dataclass(frozen=True)
-class TerminalState:
+class TerminalState(_ReadOnlyArrays):
     """A model terminal during the fault and before it.
 
     Currents flow from the terminal's bus into the line [A] (negated when the
@@ -156,7 +168,7 @@ class TerminalState:
 
 
 @dataclass(frozen=True)
-class BusState:
+class BusState(_ReadOnlyArrays):
     """Bus voltages during the fault and before it [V line-to-ground] and per unit."""
 
     id: str
@@ -168,7 +180,7 @@ class BusState:
 
 
 @dataclass(frozen=True)
-class BranchCurrent:
+class BranchCurrent(_ReadOnlyArrays):
     """A branch's contribution at one of its buses.
 
     ``kind`` is ``"line"``, ``"transformer"`` or ``"source"``.  For lines and
