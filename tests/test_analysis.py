@@ -185,3 +185,32 @@ def test_rate_not_a_multiple_of_the_nominal_is_resampled():
     # within one sample of the recorded rate
     assert abs(a.terminals[0].timeline.inception_s - e["truth"]["inception_s"]) <= 1e-3
     assert a.terminals[0].peak_a[1] == pytest.approx(np.abs(e["i_abc"][1]).max(), rel=1e-9)
+
+
+_EVENTS = sorted(p.parent for p in (Path(__file__).parents[1] / "sample_events").glob("*/truth.json")
+                 if any(p.parent.glob("*.cfg")))
+
+
+@pytest.mark.parametrize("folder", _EVENTS, ids=[p.name for p in _EVENTS])
+def test_bundled_sample_events_against_their_truth(folder):
+    # truth.json holds the simulator's inputs (type, inception, evolution, reclosing)
+    from eventlab.records import read_record
+
+    truth = json.loads((folder / "truth.json").read_text())
+    a = analyze([read_record(p) for p in sorted(folder.glob("*.cfg"))])
+    for t in a.terminals:
+        tl = t.timeline
+        assert tl.fault_type == truth["type"]
+        if truth["type"] == "none":
+            assert tl.inception_s is None
+            continue
+        assert abs(tl.inception_s - truth["inception_s"]) <= 0.5e-3
+        assert tl.clearing_s is not None and tl.clearing_s <= truth["clear_s"] + 1e-3
+        kinds = [iv.kind for iv in tl.intervals]
+        if truth.get("evolve_to"):
+            assert [iv.type for iv in tl.intervals][:2] == [truth["type"], truth["evolve_to"]]
+            assert abs(tl.intervals[1].start_s - truth["evolve_s"]) <= 0.5e-3
+        if truth.get("reclose_s") is not None and truth.get("permanent"):
+            assert "reclose" in kinds
+            iv = tl.intervals[kinds.index("reclose")]
+            assert abs(iv.start_s - truth["reclose_s"]) <= 1e-3
