@@ -28,7 +28,8 @@ def summarize(record: Record, channel_map: Mapping[str, str] | None = None) -> d
 
     Keys: ``station, device, revision, data_format, frequency_hz, rates``
     ([[samp_hz, endsamp], ...]), ``n_samples, duration_s, start, trigger``
-    (ISO 8601), ``time_code, local_code, tmq_code, leapsec, values,
+    (ISO 8601), ``time_quality`` (the 2013 time quality code, clause 6.13),
+    ``time_code, local_code, tmq_code, leapsec, values,
     analog`` ([{index, name, phase, circuit, unit, role, ratio, ps, min,
     max}], min/max of the values [unit] in the record's kind) and ``status``
     ([{index, name, normal, role, changes}], changes = number of 0/1
@@ -59,8 +60,9 @@ def summarize(record: Record, channel_map: Mapping[str, str] | None = None) -> d
         "n_samples": record.n_samples, "duration_s": float(record.duration_s),
         "start": iso_time(record.start, record.start_ns),
         "trigger": iso_time(record.trigger, record.trigger_ns),
-        "time_code": record.time_code, "local_code": record.local_code,
-        "tmq_code": record.tmq_code, "leapsec": record.leapsec, "values": record.values,
+        "time_quality": record.tmq_code, "time_code": record.time_code,
+        "local_code": record.local_code, "tmq_code": record.tmq_code,
+        "leapsec": record.leapsec, "values": record.values,
         "analog": analog, "status": status,
     }
 

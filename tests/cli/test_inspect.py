@@ -15,7 +15,7 @@ from eventlab.cli import main
 from eventlab.records import make_record, write_record
 
 KEYS = {"station", "device", "revision", "data_format", "frequency_hz", "rates", "n_samples",
-        "duration_s", "start", "trigger", "time_code", "local_code", "tmq_code", "leapsec",
+        "duration_s", "start", "trigger", "time_quality", "time_code", "local_code", "tmq_code", "leapsec",
         "values", "analog", "status"}
 
 
@@ -48,6 +48,8 @@ def test_inspect_json(record_path, capsys):
     assert out["duration_s"] == pytest.approx(ref.time[-1] - ref.time[0])
     assert out["start"] == ref.start_timestamp.isoformat(timespec="microseconds")
     assert out["trigger"] == "2026-04-01T06:30:00.270000"
+    # the writer's 2013 time quality line "0,0": clock locked (clause 6.13, from memory)
+    assert (out["time_quality"], out["leapsec"]) == (ref.cfg._tmq_code, int(ref.cfg._leap_second))
     assert [c["role"] for c in out["analog"]] == ["VA", "VB", "VC", "IA", "IB", "IC"]
     for c, values in zip(out["analog"], ref.analog, strict=True):
         assert c["min"] == float(np.min(values)) and c["max"] == float(np.max(values))
