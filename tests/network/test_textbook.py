@@ -119,3 +119,34 @@ def test_ground_fault_on_ungrounded_system():
     assert np.max(np.abs(r.fault.i_abc)) < 1e-3
     v = np.abs(r.fault.v_abc) / v_base_v(33.0)
     np.testing.assert_allclose(v, [0.0, math.sqrt(3), math.sqrt(3)], atol=1e-6)
+
+
+def test_identical_coupled_parallel_lines_equal_one_line_of_half_impedance():
+    # Two identical parallel lines with zero-sequence mutual impedance Z0m between the same
+    # buses act, seen from those buses, as one line with Z1/2 and (Z0 + Z0m)/2 (Anderson,
+    # Analysis of Faulted Power Systems, 1973, on mutually coupled lines; from memory)
+    z1, z0, z0m = [0.04, 0.4], [0.25, 1.2], [0.2, 0.7]
+    common = {
+        "system": {"name": "dc", "frequency_hz": 60.0, "base_mva": 100.0},
+        "bus": [{"id": "P", "kv": 230.0}, {"id": "Q", "kv": 230.0}],
+        "source": [{"bus": "P", "z1_ohm": [1.0, 12.0], "z0_ohm": [1.5, 18.0]},
+                   {"bus": "Q", "z1_ohm": [2.0, 20.0], "z0_ohm": [3.0, 33.0]}],
+    }
+    pair = model_from_dict({**common, "line": [
+        {"id": "C1", "from": "P", "to": "Q", "length_km": 60.0, "z1_ohm_per_km": z1,
+         "z0_ohm_per_km": z0, "mutual": {"line": "C2", "z0m_ohm_per_km": z0m}},
+        {"id": "C2", "from": "Q", "to": "P", "length_km": 60.0, "z1_ohm_per_km": z1,
+         "z0_ohm_per_km": z0}]})
+    half = model_from_dict({**common, "line": [
+        {"id": "C", "from": "P", "to": "Q", "length_km": 60.0,
+         "z1_ohm_per_km": [z1[0] / 2, z1[1] / 2],
+         "z0_ohm_per_km": [(z0[0] + z0m[0]) / 2, (z0[1] + z0m[1]) / 2]}]})
+    for code in ("AG", "BCG"):
+        a = solve_fault(pair, FaultSpec.at_bus("Q", code, 2.0))
+        b = solve_fault(half, FaultSpec.at_bus("Q", code, 2.0))
+        np.testing.assert_allclose(a.fault.i_abc, b.fault.i_abc, rtol=1e-12, atol=1e-9)
+        c1 = next(x for x in a.branches if x.element == "C1" and x.bus == "P").i_abc
+        c2 = next(x for x in a.branches if x.element == "C2" and x.bus == "P").i_abc
+        c = next(x for x in b.branches if x.element == "C" and x.bus == "P").i_abc
+        np.testing.assert_allclose(c1, c2, rtol=1e-12, atol=1e-9)
+        np.testing.assert_allclose(c1 + c2, c, rtol=1e-12, atol=1e-9)
