@@ -51,6 +51,9 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
                         help="dead time before both ends reclose [s]")
     parser.add_argument("--temporary", action="store_true",
                         help="the fault is gone at reclose (default: permanent)")
+    parser.add_argument("--single-pole", action="store_true",
+                        help="open (and reclose) only the faulted pole of a single-phase "
+                             "fault")
     parser.add_argument("--noise", type=float, default=0.0, metavar="REL",
                         help="noise std relative to rated secondary values (default 0)")
     parser.add_argument("--seed", type=int, default=0, help="noise seed (default 0)")
@@ -97,7 +100,8 @@ def run(args: argparse.Namespace) -> int:
             duration_s=args.duration, samples_per_cycle=args.rate, noise=args.noise,
             seed=args.seed, ct_saturation=ct, evolve_to=args.evolve_to,
             evolve_after_s=args.evolve_after, reclose_after_s=args.reclose_after,
-            permanent=not args.temporary, line_model=args.line_model)
+            permanent=not args.temporary, single_pole=args.single_pole,
+            line_model=args.line_model)
     except ValueError as exc:
         raise ModelError(f"simulate: {exc}") from None
     result = simulate(model, spec)

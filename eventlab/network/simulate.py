@@ -133,6 +133,10 @@ class SimulationSpec:
         Dead time [s] from the last pole opening to the reclose of both ends.
     permanent : bool
         Whether the fault is still there at reclose (then the line trips again).
+    single_pole : bool
+        Open only the faulted pole for a single-phase-to-ground fault (and
+        reclose it); a trip after reclose, or any other fault type, opens all
+        three poles.
     open_line_s : float, optional
         No-fault switching: the line's breakers are ordered open at this time [s].
     load_step : LoadStep, optional
@@ -174,6 +178,7 @@ class SimulationSpec:
     evolve_after_s: float = 0.0
     reclose_after_s: float | None = None
     permanent: bool = True
+    single_pole: bool = False
     open_line_s: float | None = None
     load_step: LoadStep | None = None
     line_model: LineModel | None = None
@@ -750,6 +755,9 @@ def simulate(model: NetworkModel, spec: SimulationSpec) -> SimulationResult:
     evolve_s = None
     clear_s = None
 
+    target: dict[str, tuple[int, ...]] = {}
+    codes = [spec.type] + ([spec.evolve_to] if spec.evolve_to else [])
+
     def breaker_state(key):
         return tuple(pole_closed[key])
 
@@ -780,10 +788,13 @@ def simulate(model: NetworkModel, spec: SimulationSpec) -> SimulationResult:
                 if k in opened:
                     opened[k][-1][p] = now_s
                 changes[lay.breakers[k]] = breaker_state(k)
+            def tripped(k):
+                return all(not pole_closed[k][p] for p in target.get(k, (0, 1, 2)))
+
             for k in {k for k, _ in hit}:
-                if not any(pole_closed[k]) and k in trip_on and len(trip_off[k]) < len(trip_on[k]):
+                if tripped(k) and k in trip_on and len(trip_off[k]) < len(trip_on[k]):
                     trip_off[k].append(now_s)
-            if hit and all(not any(pole_closed[k]) for k in lay.faulted_breakers):
+            if hit and not pending and all(tripped(k) for k in lay.faulted_breakers):
                 if clear_s is None and spec.type != NO_FAULT:
                     clear_s = now_s
                 if (spec.reclose_after_s is not None and reclose_s is None
@@ -804,10 +815,16 @@ def simulate(model: NetworkModel, spec: SimulationSpec) -> SimulationResult:
                 for k in lay.faulted_breakers:
                     trip_on[k].append(now_s)
             elif kind == "open":
+                phases = (0, 1, 2)
+                code = codes[fault_slot] if fault_slot >= 0 else NO_FAULT
+                if (spec.single_pole and reclose_s is None and code != NO_FAULT
+                        and len(faulted_phases(code)) == 1):
+                    phases = faulted_phases(code)
                 for k in lay.faulted_breakers:
+                    target[k] = phases
                     if k in opened:
                         opened[k].append([None, None, None])
-                    for p in range(3):
+                    for p in phases:
                         if pole_closed[k][p]:
                             pending.add((k, p))
             elif kind == "close":

@@ -271,6 +271,31 @@ def test_reclose_onto_permanent_fault_trips_again():
     assert np.abs(ib[again]).max() > 0.5 * np.abs(ib).max()
 
 
+def test_single_pole_trip_and_reclose():
+    # temporary A-G fault: pole A opens at both ends, B and C stay closed and
+    # keep carrying load; after the dead time pole A recloses and the line is
+    # healthy again
+    result = _simple_result(type="AG", single_pole=True, reclose_after_s=0.2,
+                            permanent=False, duration_s=0.45, noise=0.0,
+                            inception_angle_deg=None)
+    truth = result.truth
+    rec = result.records["W-L1"]
+    assert truth.pole_open_s["W-L1"][0][0] is not None
+    assert truth.pole_open_s["W-L1"][0][1:] == (None, None)
+    assert rec.status_by_name("52A-B").values.all() and rec.status_by_name("52A-C").values.all()
+    dead = (rec.time > truth.clear_s + 0.01) & (rec.time < truth.reclose_s - 0.001)
+    assert np.abs(rec.analog_by_name("IA").values[dead]).max() < 5.0
+    assert np.abs(rec.analog_by_name("IB").values[dead]).max() > 100.0
+    after = _fft_phasors(rec, ROLES_I, rec.time[-1] + 0.5 / rec.sample_rate_hz)
+    pre = prefault(_model())["W-L1"][1]
+    _assert_phasors_close(after, pre, 1.0, "W-L1 I after reclose")
+    # permanent: the trip after reclose opens all three poles
+    perm = _simple_result(type="AG", single_pole=True, reclose_after_s=0.2, permanent=True,
+                          duration_s=0.45, noise=0.0)
+    second = perm.truth.pole_open_s["W-L1"][1]
+    assert all(t is not None for t in second)
+
+
 def test_no_fault_load_step_record():
     from eventlab.network.simulate import LoadStep
 
