@@ -101,6 +101,13 @@ def events() -> list[Event]:
             duration_s=0.85, samples_per_cycle=32, noise=0.001, seed=17,
             start=_start(20, 3, 12, 50, 10000)),
             notes="reclose onto a permanent B-G fault after a 0.40 s dead time; trips again"),
+        Event("vm_cr1_single_pole", m230, SimulationSpec(
+            line="VM-CR1", fraction=0.66, type="CG", r_fault_ohm=1.2, inception_s=0.08,
+            relay_time_s=0.022, clear_after_s=0.070, single_pole=True, reclose_after_s=0.45,
+            permanent=False, duration_s=0.8, samples_per_cycle=32, noise=0.001, seed=22,
+            start=_start(25, 4, 51, 9, 440000)),
+            notes="temporary C-G: pole C opens at both ends, recloses after 0.45 s, "
+                  "the line stays in service"),
         Event("vm_cr1_load_step", m230, SimulationSpec(
             line="VM-CR1", fraction=0.0, type="none", inception_s=0.1,
             load_step=LoadStep(bus="CARDON_REACH", p_mw=120.0, q_mvar=40.0, at_s=0.12),
