@@ -319,29 +319,52 @@ def _terminal(record: Record, k_rec: int, term: TerminalChannels, n: int, fs: fl
         v, i, trips, bkrs = term.v_abc, term.i_abc, term.trips, term.breakers
     v_ph = dft_phasors(v, n, opts.filter)
     i_ph = dft_phasors(i, n, opts.filter)
-    tl = build_timeline(t, v, i, n, trips=trips, breakers=bkrs, v_ph=v_ph,
-                        i_ph=i_ph, mitigate_offset=opts.mitigate_offset, tau_s=opts.tau_s)
-    # frequency from the pre-fault part (or the whole record without a fault)
-    stop = record.n_samples
-    if tl.intervals and tl.intervals[0].prefault is not None:
-        stop = tl.intervals[0].prefault.end_index + 1
-    f_est = None
-    tracked = False
-    if stop >= 2 * n and np.abs(v[:, :stop]).max() > 0:
+    have_v = bool(np.abs(v).max() > 0)
+
+    def freq(stop: int, ph) -> float | None:
+        """Frequency [Hz] from V1 over samples 0..stop (None if too short or no voltage)."""
+        if not have_v or stop < 2 * n:
+            return None
         try:
-            # first from the phasors at hand; refined (with tracking) only when off nominal
-            f_est = frequency_from_phasor(sequence_phasors(v_ph[:, :stop])[1], fs, f0)
-            if abs(f_est - f0) > TRACK_ABOVE_HZ:
-                f_est = estimate_frequency(v, n, fs, f0, 0, stop, iterations=2)
+            return frequency_from_phasor(sequence_phasors(ph[:, :stop])[1], fs, f0)
         except SignalError:
-            f_est = None
-    if (opts.track_frequency and f_est is not None and abs(f_est - f0) > TRACK_ABOVE_HZ
-            and abs(f_est - f0) < 0.5 * f0):
-        v_ph = tracked_phasors(v, fs, f_est, f0, samples_per_cycle=n, kind=opts.filter)
-        i_ph = tracked_phasors(i, fs, f_est, f0, samples_per_cycle=n, kind=opts.filter)
-        tl = build_timeline(t, v, i, n, trips=trips, breakers=bkrs, v_ph=v_ph,
-                            i_ph=i_ph, mitigate_offset=opts.mitigate_offset, tau_s=opts.tau_s)
-        tracked = True
+            return None
+
+    def track(f: float):
+        return (tracked_phasors(v, fs, f, f0, samples_per_cycle=n, kind=opts.filter),
+                tracked_phasors(i, fs, f, f0, samples_per_cycle=n, kind=opts.filter))
+
+    def off(f: float | None) -> bool:
+        return (opts.track_frequency and f is not None
+                and TRACK_ABOVE_HZ < abs(f - f0) < 0.5 * f0)
+
+    # 1. a first estimate from the record's first three cycles (pre-trigger data)
+    f_used = None
+    f_est = freq(min(3 * n, t.size), v_ph)
+    if off(f_est):
+        f_est = estimate_frequency(v, n, fs, f0, 0, min(3 * n, t.size), iterations=2)
+        if off(f_est):
+            v_ph, i_ph = track(f_est)
+            f_used = f_est
+    tl = build_timeline(t, v, i, n, trips=trips, breakers=bkrs, v_ph=v_ph, i_ph=i_ph,
+                        mitigate_offset=opts.mitigate_offset, tau_s=opts.tau_s,
+                        cycle_samples=None if f_used is None else fs / f_used)
+    # 2. the estimate from the whole pre-fault part (whole record without a fault); the
+    #    tracked phasors are referred to the nominal reference, so their rotation still
+    #    measures f - f0
+    stop = t.size
+    if tl.intervals:
+        stop = tl.intervals[0].prefault.end_index + 1 if tl.intervals[0].prefault else 0
+    f_b = freq(stop, v_ph)
+    if f_b is not None:
+        f_est = f_b
+    if off(f_est) and (f_used is None or abs(f_est - f_used) > TRACK_ABOVE_HZ):
+        v_ph, i_ph = track(f_est)
+        f_used = f_est
+        tl = build_timeline(t, v, i, n, trips=trips, breakers=bkrs, v_ph=v_ph, i_ph=i_ph,
+                            mitigate_offset=opts.mitigate_offset, tau_s=opts.tau_s,
+                            cycle_samples=fs / f_used)
+    tracked = f_used is not None
     roles = term.roles()
     names_v = [c.name for c in term.voltages]
     names_i = [c.name for c in term.currents]

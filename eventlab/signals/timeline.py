@@ -111,18 +111,39 @@ class Timeline:
 
 
 # ------------------------------------------------------------------ pieces
-def superimposed(samples, samples_per_cycle: int) -> np.ndarray:
-    """``dx_k = x_k - x_{k-N}`` along the last axis (NaN for the first cycle).
+def superimposed(samples, samples_per_cycle: int,
+                 cycle_samples: float | None = None) -> np.ndarray:
+    """``dx_k = x_k - x(t_k - T)`` along the last axis (NaN for the first cycle).
+
+    Parameters
+    ----------
+    samples : array (..., n)
+    samples_per_cycle : int
+        Samples per nominal cycle ``N``.
+    cycle_samples : float, optional
+        Length of the actual cycle ``T`` [samples] when the frequency is off
+        nominal (``fs / f``); ``x(t_k - T)`` is then interpolated linearly
+        between samples.  Default ``N``.
 
     Notes
     -----
     Superimposed (incremental) quantities: the change against the same point
-    of the previous cycle; zero in a steady state at nominal frequency.
+    of the previous cycle; zero in a steady state.
     """
     x = np.asarray(samples, dtype=float)
     n = int(samples_per_cycle)
     d = np.full(x.shape, np.nan)
-    d[..., n:] = x[..., n:] - x[..., :-n]
+    if cycle_samples is None or abs(cycle_samples - n) < 1e-9:
+        d[..., n:] = x[..., n:] - x[..., :-n]
+        return d
+    c = float(cycle_samples)
+    k0 = int(np.ceil(c)) + 1
+    if x.shape[-1] <= k0:
+        return d
+    pos = np.arange(k0, x.shape[-1]) - c
+    j = np.floor(pos).astype(int)
+    w = pos - j
+    d[..., k0:] = x[..., k0:] - (x[..., j] * (1.0 - w) + x[..., j + 1] * w)
     return d
 
 
@@ -314,7 +335,8 @@ def _runs(mask: np.ndarray, min_len: int, max_gap: int) -> list[tuple[int, int]]
 def build_timeline(time_s, v_abc, i_abc, samples_per_cycle: int, *,
                    trips: Sequence = (), breakers: Sequence = (),
                    v_ph=None, i_ph=None, mitigate_offset: bool = True,
-                   tau_s: float | None = None) -> Timeline:
+                   tau_s: float | None = None,
+                   cycle_samples: float | None = None) -> Timeline:
     """Timeline, windows and classification of one terminal.
 
     Parameters
@@ -335,6 +357,9 @@ def build_timeline(time_s, v_abc, i_abc, samples_per_cycle: int, *,
         record, see :func:`~eventlab.signals.phasors.estimate_decay_tau`).
     tau_s : float, optional
         Offset time constant [s].
+    cycle_samples : float, optional
+        Actual cycle length [samples] (``fs / f``) for the superimposed
+        quantities when the frequency is off nominal (with tracked phasors).
 
     Returns
     -------
@@ -370,10 +395,10 @@ def build_timeline(time_s, v_abc, i_abc, samples_per_cycle: int, *,
     i_peak_ph = float(np.max(np.abs(i_ph[:, finite])))
     i_scale = max(i1_first, 0.05 * i_peak_ph, 1e-12)
 
-    d_i = superimposed(i, n)
-    d_v = superimposed(v, n)
+    d_i = superimposed(i, n, cycle_samples)
+    d_v = superimposed(v, n, cycle_samples)
     # noise of each current from the superimposed value over the first steady cycle
-    noise_i = 1.4826 * np.median(np.abs(d_i[:, n:2 * n]), axis=1) / np.sqrt(2)
+    noise_i = 1.4826 * np.median(np.abs(d_i[:, 2 * n:3 * n]), axis=1) / np.sqrt(2)
     floor_a = max(6.0 * float(noise_i.max()), 1e-9)
     poles = pole_events(t, i, n, floor_a=floor_a)
     # live[k]: some pole carries current
