@@ -153,6 +153,8 @@ class _Builder:
         self.ports: dict[tuple[str, str], tuple[int, int]] = {}
         self.w = _omega(model)
         self.base = model.system.base_mva
+        #: nodes with a zero-sequence shunt to ground (sources, earthed windings, line C0)
+        self.zero_grounded: set[int] = set()
 
     def node(self, name: str, kv: float) -> int:
         self.names.append(name)
@@ -181,6 +183,8 @@ class _Builder:
                 f_node = nxt
             e = self.add(Element(line.id, "line", np.array([prev, nxt]),
                                  _piece_y(sec, b - a, zb, self.w)))
+            if sec.c0_nf_per_km > 0:
+                self.zero_grounded.update((prev, nxt))
             if j == 0:
                 self.ports[(line.id, line.from_bus)] = (e, 0)
             if last:
@@ -214,6 +218,10 @@ class _Builder:
                 na = self.node(f"{la.id}@{cuts[j + 1]:.6g}km", kv)
                 nb = self.node(f"{lb.id}@{(cuts[j + 1] if same_dir else length - cuts[j + 1]):.6g}km", kv)
                 f_node = na
+            if sa.c0_nf_per_km > 0:
+                self.zero_grounded.update((prev_a, na))
+            if sb.c0_nf_per_km > 0:
+                self.zero_grounded.update((prev_b, nb))
             e = self.add(Element(f"{la.id}+{lb.id}", "pair",
                                  np.array([prev_a, prev_b, na, nb]),
                                  _pair_y(sa, sb, z0m, cuts[j + 1] - cuts[j], zb, self.w)))
@@ -243,8 +251,10 @@ class _Builder:
                 y0 = np.array([[1.0, -t0], [-t0, 1.0]], dtype=complex) / (z0 + zn_hv + zn_lv)
             elif hw == "YN" and lw == "D":
                 y0[0, 0] = 1.0 / (z0 + zn_hv)
+                self.zero_grounded.add(h)
             elif hw == "D" and lw == "YN":
                 y0[1, 1] = 1.0 / (z0 + zn_lv)
+                self.zero_grounded.add(lo)
             e = self.add(Element(t.id, "transformer", np.array([h, lo]), (y0, y1, y2)))
             self.ports[(t.id, t.hv_bus)] = (e, 0)
             self.ports[(t.id, t.lv_bus)] = (e, 1)
@@ -288,8 +298,9 @@ class _Builder:
             ys[1][i, i] += 1.0 / z1
             ys[2][i, i] += 1.0 / z2
             inj[i] += e / z1
+            self.zero_grounded.add(i)
             sources.append((i, e, z0, z1, z2))
-        _ground_floating_zero_sequence(ys[0])
+        _ground_floating_zero_sequence(ys[0], self.zero_grounded)
         return SequenceNetwork(y=ys, node_names=list(self.names), node_kv=np.array(self.kv),
                                injection=inj, elements=self.elements, ports=self.ports,
                                sources=sources, fault_node=fault_node, fault_at_end=fault_at_end,
@@ -300,7 +311,7 @@ class _Builder:
 ZERO_SEQUENCE_LEAKAGE_PU = 1e-9
 
 
-def _ground_floating_zero_sequence(y0: np.ndarray) -> None:
+def _ground_floating_zero_sequence(y0: np.ndarray, grounded_nodes: set[int]) -> None:
     """Give zero-sequence islands with no path to ground a tiny leakage (in place).
 
     Behind a delta winding or an ungrounded star the zero-sequence network has
@@ -312,7 +323,8 @@ def _ground_floating_zero_sequence(y0: np.ndarray) -> None:
     n = y0.shape[0]
     scale = max(float(np.max(np.abs(y0))), 1.0)
     linked = np.abs(y0) > 1e-14 * scale
-    grounded = np.abs(y0.sum(axis=1)) > 1e-12 * scale
+    grounded = np.zeros(n, dtype=bool)
+    grounded[list(grounded_nodes)] = True
     seen = np.zeros(n, dtype=bool)
     for start in range(n):
         if seen[start]:
