@@ -302,6 +302,12 @@ def _resampled(term: TerminalChannels, t: np.ndarray, t_new: np.ndarray):
     return v, i, trips, bkrs
 
 
+def _ro(x) -> np.ndarray:
+    a = np.array(x, dtype=complex, copy=True)
+    a.setflags(write=False)
+    return a
+
+
 def _iso(dt) -> str | None:
     return None if dt is None else dt.isoformat()
 
@@ -415,6 +421,8 @@ def _terminal(record: Record, k_rec: int, term: TerminalChannels, n: int, fs: fl
             for p, name in enumerate(names):
                 pre[name] = complex(ph[p, n - 1]) if np.isfinite(ph[p, n - 1]) else complex(
                     np.nan)
+    v012p, i012p, v012f, i012f = (None if x is None else _ro(x)
+                                  for x in (v012p, i012p, v012f, i012f))
     ta = TerminalAnalysis(
         record=k_rec, label=term.label, channels=MappingProxyType(dict(roles)), timeline=tl,
         classification=cls, prefault=MappingProxyType(pre), fault=MappingProxyType(flt),

@@ -156,3 +156,16 @@ def test_weak_infeed_end_classified_from_voltages(ftype):
     assert tl.intervals[0].classification.basis == "voltages"
     assert abs(tl.inception_s - e["truth"]["inception_s"]) <= 0.5e-3
     assert tl.clearing_s is not None
+
+
+@pytest.mark.parametrize("ftype", ["AG", "BC", "CAG", "ABC"])
+def test_short_fault_window_flagged(ftype):
+    # cleared about one cycle after inception: the fault window cannot wait one cycle
+    sc = Scenario(events=[Event(ftype, 0.0507)], relay_time_s=0.004, breaker_time_s=0.008)
+    e = make_event(sc)
+    tl = _timeline(e)
+    iv = tl.intervals[0]
+    assert iv.fault.flagged and iv.fault.note
+    assert iv.fault.start_index > iv.start_index
+    assert tl.fault_type == ftype
+    assert abs(tl.inception_s - e["truth"]["inception_s"]) <= 1 / e["fs_hz"]
