@@ -18,8 +18,8 @@ coupled 6 x 6 R-L pieces.
 
 Conventions
 -----------
-Fault resistances follow the fault solver: phase-to-ground ``r_fault_ohm``
-(in series with ``r_ground_ohm``); phase-to-phase ``r_fault_ohm`` in total
+Fault resistances follow the fault solver: phase-to-ground ``r_fault_ohm``;
+phase-to-phase ``r_fault_ohm`` in total
 between the two phases; two-phase-to-ground ``r_fault_ohm`` per phase to a
 common point and ``r_ground_ohm`` from it to ground; three-phase
 ``r_fault_ohm`` per phase to a star point that is floating unless
@@ -987,12 +987,6 @@ def to_secondary(record: Record) -> Record:
     return replace(record, analog=tuple(chans), values="secondary")
 
 
-def _add_seconds(start: datetime, s: float) -> datetime:
-    from datetime import timedelta
-
-    return start + timedelta(microseconds=round(s * 1e6))
-
-
 # ----------------------------------------------------------------------------- writing
 
 def file_stem(station: str) -> str:
@@ -1021,6 +1015,10 @@ def write_simulation(result: SimulationResult, out_dir, data_format: str = "BINA
     """
     from eventlab.records.writer import write_record
 
+    data_format = str(data_format).upper()
+    if data_format not in ("ASCII", "BINARY", "BINARY32", "FLOAT32"):
+        raise ValueError(f"data_format must be ASCII, BINARY, BINARY32 or FLOAT32, "
+                         f"got {data_format!r}")
     out = Path(out_dir)
     out.mkdir(parents=True, exist_ok=True)
     paths: list[Path] = []
