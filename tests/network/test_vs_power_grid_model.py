@@ -195,3 +195,47 @@ def test_fault_on_lv_bus_seen_through_transformer(code, vector_group):
     _assert_phasors(hv.i_abc, _c(tr["i_from"][0], tr["i_from_angle"][0]), "T1 HV")
     ln = out["line"]
     _assert_phasors(r.terminals["W-L1"].i_abc, _c(ln["i_from"][0], ln["i_from_angle"][0]), "W")
+
+
+def test_prefault_load_flow_matches_power_grid_model():
+    # power-grid-model power flow: its sources are EMFs u_ref at u_ref_angle behind their
+    # short-circuit impedance, so with no loads it is the same linear network as ours
+    from power_grid_model import CalculationMethod
+
+    from eventlab.network.faults import prefault
+
+    node = initialize_array(DatasetType.input, ComponentType.node, 2)
+    node["id"], node["u_rated"] = [1, 2], U_HV
+    line = initialize_array(DatasetType.input, ComponentType.line, 1)
+    line["id"], line["from_node"], line["to_node"] = [10], [1], [2]
+    line["from_status"] = line["to_status"] = 1
+    line["r1"], line["x1"] = ZL1_KM.real * LEN_KM, ZL1_KM.imag * LEN_KM
+    line["r0"], line["x0"] = ZL0_KM.real * LEN_KM, ZL0_KM.imag * LEN_KM
+    line["c1"] = line["c0"] = line["tan1"] = line["tan0"] = 0.0
+    line["i_n"] = 1e3
+    src = initialize_array(DatasetType.input, ComponentType.source, 2)
+    src["id"], src["node"], src["status"] = [20, 21], [1, 2], 1
+    src["u_ref"], src["u_ref_angle"] = [1.03, 0.98], [0.0, math.radians(-12.0)]
+    src["sk"] = [U_HV**2 / abs(z) for z in (Z1_W, Z1_E)]
+    src["rx_ratio"] = [z.real / z.imag for z in (Z1_W, Z1_E)]
+    src["z01_ratio"] = [K0_W, K0_E]
+    out = PowerGridModel({"node": node, "line": line, "source": src},
+                         system_frequency=F_HZ).calculate_power_flow(
+        symmetric=True, calculation_method=CalculationMethod.linear)
+    v_ref = out["node"]["u"][0] / math.sqrt(3) * np.exp(1j * out["node"]["u_angle"][0])
+    s_ref = out["line"]["p_from"][0] + 1j * out["line"]["q_from"][0]
+    i_ref = np.conj(s_ref / (3 * v_ref))  # phase A current from the three-phase power
+    d = {
+        "system": {"name": "pf", "frequency_hz": F_HZ, "base_mva": 100.0},
+        "bus": [{"id": "W", "kv": 230.0}, {"id": "E", "kv": 230.0}],
+        "source": [{"bus": "W", "z1_ohm": _pair(Z1_W), "z0_ohm": _pair(Z1_W * K0_W),
+                    "emf_pu": 1.03},
+                   {"bus": "E", "z1_ohm": _pair(Z1_E), "z0_ohm": _pair(Z1_E * K0_E),
+                    "emf_pu": 0.98, "angle_deg": -12.0}],
+        "line": [{"id": "L1", "from": "W", "to": "E", "length_km": LEN_KM,
+                  "z1_ohm_per_km": _pair(ZL1_KM), "z0_ohm_per_km": _pair(ZL0_KM)}],
+        "terminal": [{"id": "W-L1", "line": "L1", "bus": "W"}],
+    }
+    v, i = prefault(model_from_dict(d))["W-L1"]
+    assert abs(v[0] / v_ref - 1) < 1e-9
+    assert abs(i[0] / i_ref - 1) < 1e-9
