@@ -37,7 +37,7 @@ _PHASES = {"A": "A", "B": "B", "C": "C", "N": "N", "G": "N", "L1": "A", "L2": "B
            "0": "N", "3I0": "N", "3V0": "N", "E": "N"}
 _ANALOG_TOKEN = re.compile(
     r"^(?:(?P<par>3I0P|I0P|INP|IRP|IP|IMUT|I_?PAR\w*)|(?P<res>3I0|3IO|3V0|3VO|I0|V0|IO|VO)"
-    r"|(?P<q>[VUI])(?:PH)?(?P<ph>L1|L2|L3|A|B|C|N|G|R|E))$")
+    r"|(?P<q>[VUI])(?:PH)?(?P<ph>L1|L2|L3|AN|BN|CN|AG|BG|CG|A|B|C|N|G|R|E))$")
 _PARALLEL_WORD = re.compile(r"PARALLEL|MUTUAL|\bPAR\b")
 _NOISE = frozenset({"PH", "PHASE", "PAR", "PARALLEL", "MUTUAL"})
 _TRIP = re.compile(r"TRIP|TRP|(?:^|[^0-9])94(?:[^0-9]|$)")
@@ -120,7 +120,10 @@ def classify_analog(ch: AnalogChannel) -> tuple[str, str]:
     q = quantity(ch)
     toks = _tokens(ch.name)
     role, matched = "", None
-    for t in toks:
+    cands = [(t, (t,)) for t in toks] + [  # "I L1", "V_A": quantity and phase apart
+        (toks[i] + toks[i + 1], (toks[i], toks[i + 1])) for i in range(len(toks) - 1)
+        if toks[i] in ("V", "U", "I")]
+    for t, parts in cands:
         m = _ANALOG_TOKEN.match(t)
         if m is None:
             continue
@@ -132,7 +135,7 @@ def classify_analog(ch: AnalogChannel) -> tuple[str, str]:
             cand = ("V" if m.group("q") in "VU" else "I") + _PHASES[m.group("ph")]
         if q and cand[0] != q:
             continue
-        role, matched = cand, t
+        role, matched = cand, parts
         break
     ph = _PHASES.get(ch.phase.strip().upper().replace(" ", "").removeprefix("PH"))
     if ph and role != "IP" and (q or role):
@@ -141,7 +144,14 @@ def classify_analog(ch: AnalogChannel) -> tuple[str, str]:
         role = "IP"
     group = ch.circuit.strip()
     if not group:
-        group = " ".join(t for t in toks if t != matched and t not in _NOISE)
+        used = list(matched or ())
+        rest = []
+        for t in toks:
+            if t in used:
+                used.remove(t)
+            elif t not in _NOISE:
+                rest.append(t)
+        group = " ".join(rest)
     return role, group
 
 

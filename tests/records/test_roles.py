@@ -114,3 +114,13 @@ def test_find_channel_by_role():
         find_channel(rec, "IA")
     with pytest.raises(ChannelMapError, match="no terminal 'L09'"):
         find_channel(rec, "IA", label="L09")
+
+
+def test_names_without_ph_field():
+    # phase-to-neutral names (VAN, Ua) and IEC L1..L3, unit deciding V or I
+    analog = [("VAN", "", "kV", Z), ("VBN", "", "kV", Z), ("VCN", "", "kV", Z),
+              ("I_L1", "", "A", Z), ("I_L2", "", "A", Z), ("I_L3", "", "A", Z),
+              ("VAB", "", "kV", Z)]
+    (t,) = map_terminals(make_record("X", 1000.0, analog))
+    assert [c.name for c in t.voltages] == ["VAN", "VBN", "VCN"]
+    assert [c.name for c in t.currents] == ["I_L1", "I_L2", "I_L3"]
