@@ -432,6 +432,32 @@ def _terminal(record: Record, k_rec: int, term: TerminalChannels, n: int, fs: fl
     return ta, f_est, tracked
 
 
+def line_time_constant_s(model, line: str | None) -> float | None:
+    """Offset time constant [s] from the positive-sequence X/R of a model line.
+
+    ``tau = X1 / (2 pi f R1)`` of line ``line`` (or of the model's only line);
+    None when the line is not given and the model has several, or R1 is zero.
+
+    Notes
+    -----
+    The decaying offset of a fault current through an R-L circuit has the
+    time constant L/R = X/(omega R) (IEC 60909-0:2016 clause 4.3.1.1 uses the
+    same R/X ratio for the peak current factor kappa).
+    """
+    lines = tuple(getattr(model, "lines", ()))
+    if line is not None:
+        ln = model.line(line)
+    elif len(lines) == 1:
+        ln = lines[0]
+    else:
+        return None
+    z1 = complex(ln.z1_ohm)
+    f_hz = float(model.system.frequency_hz)
+    if z1.real <= 0 or z1.imag <= 0 or f_hz <= 0:
+        return None
+    return float(z1.imag / (2.0 * np.pi * f_hz * z1.real))
+
+
 def analyze(records: Sequence[Record] | Record, model=None, line: str | None = None,
             options: AnalysisOptions | None = None) -> Analysis:
     """Run the signal chain on one record or several (e.g. the two ends of a line).
@@ -440,8 +466,10 @@ def analyze(records: Sequence[Record] | Record, model=None, line: str | None = N
     ----------
     records : Record or sequence of Record
     model : NetworkModel, optional
-        Reserved for the model-based steps (location, comparison); the signal
-        chain does not need it.
+        For the model-based steps (location, comparison; not in this version).
+        The signal chain takes from it only the offset time constant of the
+        mimic filter (:func:`line_time_constant_s`) when ``options.tau_s`` is
+        not given.
     line : str, optional
         Line id in ``model`` (reserved).
     options : AnalysisOptions, optional
@@ -458,6 +486,11 @@ def analyze(records: Sequence[Record] | Record, model=None, line: str | None = N
     if not records:
         raise SignalError("analyze: no record given; expected at least one")
     opts = options if options is not None else AnalysisOptions()
+    tau_from_model = None
+    if model is not None and opts.tau_s is None:
+        tau_from_model = line_time_constant_s(model, line)
+        if tau_from_model is not None:
+            opts = replace(opts, tau_s=tau_from_model)
     infos = []
     terms: list[TerminalAnalysis] = []
     warnings: list[str] = []
@@ -491,6 +524,8 @@ def analyze(records: Sequence[Record] | Record, model=None, line: str | None = N
                    0 if terms else None)
     if model is not None:
         warnings.append("a network model was given: location and comparison are not part of "
-                        "this version of the signal chain")
+                        "this version of the signal chain"
+                        + (f"; offset time constant {1e3 * tau_from_model:.1f} ms from the "
+                           f"line's X/R" if tau_from_model is not None else ""))
     return Analysis(records=tuple(infos), terminals=tuple(terms), primary=primary,
                     warnings=tuple(warnings))

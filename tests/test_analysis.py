@@ -219,3 +219,20 @@ def test_bundled_sample_events_against_their_truth(folder):
             assert "reclose" in kinds
             iv = tl.intervals[kinds.index("reclose")]
             assert abs(iv.start_s - truth["reclose_s"]) <= 1e-3
+
+
+def test_offset_time_constant_from_the_model_line():
+    # tau = X/(omega R) of the line's positive sequence (R-L circuit, IEC 60909-0 4.3.1.1)
+    from eventlab.analysis import line_time_constant_s
+    from eventlab.network.model import load_model
+
+    model = load_model(Path(__file__).parents[1] / "models" / "northmarch_230kv.toml")
+    ln = model.lines[0]
+    z1 = complex(ln.z1_ohm)
+    want = z1.imag / (2 * np.pi * model.system.frequency_hz * z1.real)
+    assert line_time_constant_s(model, ln.id) == pytest.approx(want)
+    e = fw.fault_event("AG", 0.0507)
+    a = analyze(record_of(e), model=model, line=ln.id)
+    assert a.terminals[0].timeline.intervals[0].tau_s == pytest.approx(want)
+    assert a.fault_type == "AG"
+    assert a.to_dict()["location"] is None
