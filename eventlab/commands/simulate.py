@@ -54,6 +54,8 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--single-pole", action="store_true",
                         help="open (and reclose) only the faulted pole of a single-phase "
                              "fault")
+    parser.add_argument("--frequency", type=float, default=None, metavar="HZ",
+                        help="source frequency [Hz] when off nominal (default: the model's)")
     parser.add_argument("--noise", type=float, default=0.0, metavar="REL",
                         help="noise std relative to rated secondary values (default 0)")
     parser.add_argument("--seed", type=int, default=0, help="noise seed (default 0)")
@@ -101,6 +103,7 @@ def run(args: argparse.Namespace) -> int:
             seed=args.seed, ct_saturation=ct, evolve_to=args.evolve_to,
             evolve_after_s=args.evolve_after, reclose_after_s=args.reclose_after,
             permanent=not args.temporary, single_pole=args.single_pole,
+            frequency_hz=args.frequency,
             line_model=args.line_model)
     except ValueError as exc:
         raise ModelError(f"simulate: {exc}") from None

@@ -137,6 +137,10 @@ class SimulationSpec:
         Open only the faulted pole for a single-phase-to-ground fault (and
         reclose it); a trip after reclose, or any other fault type, opens all
         three poles.
+    frequency_hz : float, optional
+        Frequency of the sources [Hz] when it is not the model's nominal one
+        (impedances stay those of the nominal frequency; the recorder still
+        samples at ``samples_per_cycle`` times the nominal frequency).
     open_line_s : float, optional
         No-fault switching: the line's breakers are ordered open at this time [s].
     load_step : LoadStep, optional
@@ -179,6 +183,7 @@ class SimulationSpec:
     reclose_after_s: float | None = None
     permanent: bool = True
     single_pole: bool = False
+    frequency_hz: float | None = None
     open_line_s: float | None = None
     load_step: LoadStep | None = None
     line_model: LineModel | None = None
@@ -204,6 +209,9 @@ class SimulationSpec:
             v = getattr(self, name)
             if not (math.isfinite(v) and v >= 0):
                 raise ValueError(f"{name} must be a finite number >= 0, got {v!r}")
+        if self.frequency_hz is not None and not (math.isfinite(self.frequency_hz)
+                                                  and 1.0 <= self.frequency_hz <= 1000.0):
+            raise ValueError(f"frequency_hz must lie in 1..1000 Hz, got {self.frequency_hz!r}")
         if self.pi_segment_km is not None and not (math.isfinite(self.pi_segment_km)
                                                    and self.pi_segment_km > 0):
             raise ValueError(f"pi_segment_km must be a positive number, got {self.pi_segment_km!r}")
@@ -274,6 +282,7 @@ class Truth:
     nearest_structure: str | None
     stations: Mapping[str, str]
     distance_from_km: Mapping[str, float] = field(default_factory=dict)
+    source_frequency_hz: float | None = None
     notes: str = ""
 
     def to_dict(self) -> dict:
@@ -452,7 +461,8 @@ def _build(model: NetworkModel, spec: SimulationSpec, mode: str) -> _Layout:
         name = f"leak.{n}"
         cb.add_r(name, (n,), (GROUND,), [LEAK_OHM])
         leak_of[n] = name
-    return _Layout(cb.build(f), breakers, line_end, tuple(fault_groups), tuple(fault_ground),
+    f_src = spec.frequency_hz if spec.frequency_hz is not None else f
+    return _Layout(cb.build(f_src), breakers, line_end, tuple(fault_groups), tuple(fault_ground),
                    tuple(faulted_breakers), leak_of, tuple(load_groups))
 
 
@@ -666,7 +676,8 @@ def simulate(model: NetworkModel, spec: SimulationSpec) -> SimulationResult:
     anti-aliasing filter is modelled.
     """
     f = model.system.frequency_hz
-    omega = 2.0 * math.pi * f
+    f_src = spec.frequency_hz if spec.frequency_hz is not None else f
+    omega = 2.0 * math.pi * f_src          # the sources' angular frequency
     fline = model.line(spec.line)
     if spec.load_step is not None and spec.type != NO_FAULT:
         raise ModelError("simulate: load_step is for no-fault records (type 'none')")
@@ -890,7 +901,8 @@ def simulate(model: NetworkModel, spec: SimulationSpec) -> SimulationResult:
         inception_s=inception_s, inception_angle_deg=inc_angle,
         trip_s=trips, pole_open_s=pole_open, reclose_s=reclose_s, clear_s=clear_s,
         evolve_to=spec.evolve_to, evolve_s=evolve_s, permanent=bool(spec.permanent),
-        frequency_hz=float(f), samples_per_cycle=spec.samples_per_cycle,
+        frequency_hz=float(f), source_frequency_hz=float(f_src),
+        samples_per_cycle=spec.samples_per_cycle,
         steps_per_cycle=spc_int, line_model=mode, nearest_structure=nearest,
         stations={t.id: t.station for t in model.terminals},
         distance_from_km={t.id: round(float(distance_km if t.bus == fline.from_bus

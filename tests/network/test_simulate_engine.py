@@ -327,6 +327,21 @@ def test_no_fault_line_opening_record():
     assert result.truth.clear_s is None and result.truth.distance_from_km == {}
 
 
+def test_off_nominal_source_frequency():
+    # frequency = number of periods over their duration (definition), from the
+    # rising zero crossings of phase A, linearly interpolated
+    result = simulate(_model(), SimulationSpec(line="L1", fraction=0.0, type="none",
+                                               frequency_hz=59.5, duration_s=0.5, **FAST))
+    rec = result.records["W-L1"]
+    v = rec.analog_by_name("VA").values
+    k = np.flatnonzero((v[:-1] < 0) & (v[1:] >= 0))
+    t_cross = rec.time[k] - v[k] * (rec.time[k + 1] - rec.time[k]) / (v[k + 1] - v[k])
+    f_meas = (t_cross.size - 1) / (t_cross[-1] - t_cross[0])
+    assert f_meas == pytest.approx(59.5, abs=1e-3)
+    assert rec.frequency_hz == 60.0 and rec.sample_rate_hz == pytest.approx(60.0 * 32)
+    assert result.truth.source_frequency_hz == 59.5
+
+
 def test_ct_saturation_clips_the_secondary_current():
     kw = dict(fraction=0.05, type="AG", r_fault_ohm=0.2, inception_angle_deg=0.0,
               clear_after_s=None, noise=0.0, ct_ratio=(600.0, 5.0), duration_s=0.2)
