@@ -124,7 +124,8 @@ class LocationReport:
             loc["model_fit"] = {
                 "distance_km": float(f.distance_km), "fault_resistance_ohm": f.r_fault_ohm,
                 "ground_resistance_ohm": f.r_ground_ohm, "local_source_z_scale": f.local_z_scale,
-                "remote_source_z_scale": f.remote_z_scale, "residual_rms": f.residual_rms,
+                "remote_source_z_scale": f.remote_z_scale, "line_z0_scale": f.z0_scale,
+                "residual_rms": f.residual_rms,
                 "residual_scale": f.chi2_scale, "interval_km": list(f.interval_km),
                 "sigma_km": f.sigma_km, "evaluations": f.nfev,
                 "terminals": list(f.used_terminals),
@@ -165,9 +166,9 @@ def locate_event(model: NetworkModel, ends: Sequence[TerminalPhasors], line: str
     Returns
     -------
     LocationReport
-        The answer eventlab stands behind (two-ended where both ends are given
-        and it solved, else the model-matched fit where it converged, else
-        the modified Takagi method), every method's estimate, the interval,
+        The answer eventlab stands behind (the model-matched fit on every
+        given end where it converged, else the two-ended method where both
+        ends are given, else the modified Takagi method), every method's estimate, the interval,
         structures, the measured-versus-computed table and the caution.
 
     Raises
@@ -285,7 +286,12 @@ def locate_event(model: NetworkModel, ends: Sequence[TerminalPhasors], line: str
     # the answer stood behind
     assumptions: list[str] = ["series-impedance (short-line) model of the faulted line for the "
                               "impedance methods; shunt capacitance neglected"]
-    if two is not None:
+    if fit is not None:
+        best = methods[-1]
+        interval = fit.interval_km
+        parts = fit.sigma_parts_km
+        assumptions += list(fit.assumptions)
+    elif two is not None:
         best = two
         sigma = math.sqrt(sum(v * v for v in two_parts.values()))
         k = opts.fit.coverage_factor
@@ -295,11 +301,6 @@ def locate_event(model: NetworkModel, ends: Sequence[TerminalPhasors], line: str
                            f"{opts.fit.ct_class}, VT class {opts.fit.vt_class} (limits as two "
                            f"sigma), line Z1 tolerance {opts.fit.z1_tolerance:.0%}"
                            + (", clock alignment" if two.method == "two_ended_sync" else ""))
-    elif fit is not None:
-        best = methods[-1]
-        interval = fit.interval_km
-        parts = fit.sigma_parts_km
-        assumptions += list(fit.assumptions)
     elif mt is not None or methods:
         best = mt or methods[-1]
         half = 0.05 * length
@@ -310,8 +311,6 @@ def locate_event(model: NetworkModel, ends: Sequence[TerminalPhasors], line: str
     else:
         raise SignalError(f"locate: no method could locate the fault on line {line_id}; "
                           + "; ".join(notes))
-    if fit is not None and best is not methods[-1]:
-        assumptions += [a for a in fit.assumptions if a not in assumptions]
     st = locate_structures(ld, best.distance_km, interval)
     return LocationReport(
         line_id=line_id, reference_terminal=ref_t.id, length_km=length, fault_type=code,

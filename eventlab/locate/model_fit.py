@@ -139,6 +139,7 @@ class ModelFitResult:
     assumptions: tuple[str, ...]
     used_terminals: tuple[str, ...]
     model: NetworkModel = field(repr=False, compare=False)
+    z0_scale: float = 1.0
 
     @property
     def fraction(self) -> float:
@@ -205,6 +206,7 @@ class _Problem:
 
     def bases(self, x, z0_line=1.0, z1_line=1.0) -> list[FaultResult]:
         m, rf, rg, ks, kr = self.unpack(x)
+        z0_line = z0_line * math.exp(dict(zip(self.names, x, strict=True)).get("ln_kz0", 0.0))
         f = float(np.clip(fraction_on_line(self.model, self.line_id, self.ref, m), 0.0, 1.0))
         spec = FaultSpec(self.line_id, f, self.fault_type, max(rf, 0.0), max(rg, 0.0))
         return [solve_fault(_variant(self.model, self.line_id, self.ref, g, ks, kr,
@@ -244,6 +246,8 @@ class _Problem:
         for key in ("ln_ks", "ln_kr"):
             if key in p:
                 r.append(np.array([p[key] / self.opts.source_prior]))
+        if "ln_kz0" in p:
+            r.append(np.array([p["ln_kz0"] / self.opts.z0_tolerance]))
         return np.concatenate(r)
 
     def residual(self, x):
@@ -319,6 +323,12 @@ def fit_fault(model: NetworkModel, line_id: str, ends: Sequence[TerminalPhasors]
         names.append("ln_ks")
     if opts.fit_remote_source and groups[1]:
         names.append("ln_kr")
+    # with both ends the zero-sequence currents of both sides make the line's
+    # Z0 observable: fit its scale (prior: the Z0 tolerance) instead of
+    # carrying its whole tolerance into the interval
+    fit_z0 = len(ends) >= 2 and code.endswith("G")
+    if fit_z0:
+        names.append("ln_kz0")
     prob = _Problem(model, line_id, ref, ends, terminals, code, opts, names, groups)
     prob.meas = _measured(ends)
     prob.sigma = _sigmas(ends, opts.noise_fraction)
@@ -337,17 +347,19 @@ def fit_fault(model: NetworkModel, line_id: str, ends: Sequence[TerminalPhasors]
     x_scale = [0.1, 10.0] + ([10.0] if two_phase_ground else [])
     x_scale += [0.3] * (len(names) - len(x_scale))
 
-    best = None
-    starts = [x0]
-    # a second start from the other half of the line guards against a local minimum
-    alt = list(x0)
-    alt[0] = 1.0 - x0[0] if abs(x0[0] - 0.5) > 0.2 else (0.25 if x0[0] > 0.5 else 0.75)
-    starts.append(alt)
-    for xs in starts:
-        sol = least_squares(prob.residual, np.array(xs), bounds=(lo, hi), x_scale=x_scale,
-                            method="trf", xtol=1e-10, ftol=1e-10, gtol=1e-10, max_nfev=200)
-        if best is None or sol.cost < best.cost:
-            best = sol
+    def run(xs):
+        return least_squares(prob.residual, np.array(xs), bounds=(lo, hi), x_scale=x_scale,
+                             method="trf", xtol=1e-9, ftol=1e-9, gtol=1e-9, max_nfev=200)
+
+    best = run(x0)
+    n_res = best.fun.size
+    if 2.0 * best.cost / max(n_res - len(x0), 1) > 4.0:
+        # a poor fit: try once more from the other half of the line (local minimum?)
+        alt = list(x0)
+        alt[0] = 1.0 - x0[0] if abs(x0[0] - 0.5) > 0.2 else (0.25 if x0[0] > 0.5 else 0.75)
+        other = run(alt)
+        if other.cost < best.cost:
+            best = other
     sol = best
     if sol.status <= 0:
         raise FitDidNotConverge(f"model fit on line {line_id}: {sol.message} after "
@@ -369,8 +381,10 @@ def fit_fault(model: NetworkModel, line_id: str, ends: Sequence[TerminalPhasors]
         return g[0] * length  # [km] per unit of c
 
     h = 1e-4
-    for label, kw, tol in (("line Z0", {"z0_line": 1 + h}, opts.z0_tolerance),
-                           ("line Z1", {"z1_line": 1 + h}, opts.z1_tolerance)):
+    held = [("line Z1", {"z1_line": 1 + h}, opts.z1_tolerance)]
+    if not fit_z0:
+        held.insert(0, ("line Z0", {"z0_line": 1 + h}, opts.z0_tolerance))
+    for label, kw, tol in held:
         _, vec = prob.states(prob.bases(x, **kw), ends)
         parts[label] = abs(sens(prob.residual_from(vec, prob.meas, x), h)) * tol
     ct_r, ct_ph = CT_CLASSES[opts.ct_class]
@@ -401,8 +415,10 @@ def fit_fault(model: NetworkModel, line_id: str, ends: Sequence[TerminalPhasors]
         if ("ln_ks" in names or "ln_kr" in names) else "source impedances as in the model",
         f"CT class {opts.ct_class}, VT class {opts.vt_class}: class limits taken as two "
         f"standard deviations, common to the three phases of a set",
-        f"line Z0 tolerance {opts.z0_tolerance:.0%} and Z1 tolerance {opts.z1_tolerance:.0%} "
-        f"(one sigma)",
+        (f"line Z0 scale fitted (prior sigma {opts.z0_tolerance:.0%}); Z1 tolerance "
+         f"{opts.z1_tolerance:.0%} (one sigma)" if fit_z0 else
+         f"line Z0 tolerance {opts.z0_tolerance:.0%} and Z1 tolerance {opts.z1_tolerance:.0%} "
+         f"(one sigma)"),
         f"interval = estimate +/- {opts.coverage_factor:g} sigma, linearised; residual scale "
         f"{math.sqrt(chi2):.2f}",
         "mutual coupling to parallel circuits as in the network model",
@@ -415,7 +431,7 @@ def fit_fault(model: NetworkModel, line_id: str, ends: Sequence[TerminalPhasors]
         sigma_parts_km=parts, residual_rms=float(np.sqrt(np.mean(sol.fun ** 2))),
         chi2_scale=math.sqrt(chi2), converged=bool(sol.status > 0), nfev=int(sol.nfev),
         assumptions=assumptions, used_terminals=tuple(t.id for t in terminals),
-        model=model)
+        model=model, z0_scale=float(math.exp(dict(zip(names, x, strict=True)).get("ln_kz0", 0.0))))
 
 
 def computed_phasors(fit: ModelFitResult, ends: Sequence[TerminalPhasors],
@@ -433,11 +449,12 @@ def computed_phasors(fit: ModelFitResult, ends: Sequence[TerminalPhasors],
     ref = model.terminal(fit.terminal)
     terminals = tuple(terminals)
     opts = options or FitOptions()
-    names = ["m", "rf", "rg", "ln_ks", "ln_kr"]
+    names = ["m", "rf", "rg", "ln_ks", "ln_kr", "ln_kz0"]
     prob = _Problem(model, fit.line_id, ref, tuple(ends), terminals, fit.fault_type, opts,
                     names, _groups(model, fit.line_id, ref))
     ks, kr = (1.0, 1.0) if nominal else (fit.local_z_scale, fit.remote_z_scale)
-    x = [fit.fraction, fit.r_fault_ohm, fit.r_ground_ohm, math.log(ks), math.log(kr)]
+    x = [fit.fraction, fit.r_fault_ohm, fit.r_ground_ohm, math.log(ks), math.log(kr),
+         0.0 if nominal else math.log(fit.z0_scale)]
     bases = prob.bases(x)
     a, _ = prob.states(bases, ends)
     out = []

@@ -10,7 +10,15 @@ per sequence (the sequence networks of a transposed line are decoupled), with
 resistance, load and source impedances do not enter (1).  With time-aligned
 records (1) is solved directly for ``d``; without, the remote phasors carry an
 unknown rotation ``exp(j delta)`` that the magnitudes of both sides of (1)
-eliminate.  Shunt capacitance is neglected.
+eliminate.
+
+Line charging: where the model gives shunt capacitance, each piece of line
+between a terminal, the section joints and the fault point is a nominal pi
+(half the piece's capacitance at each of its ends), the same representation
+as the network model's fault solver; ``V_f(d)`` and the current arriving at
+the fault are then propagated piece by piece from each end per sequence, and
+(1) becomes ``V_f,L(d) = V_f,R(L - d)``.  Without capacitance this reduces to
+the series form above.
 """
 
 from __future__ import annotations
@@ -21,12 +29,12 @@ import numpy as np
 from scipy.optimize import brentq, minimize_scalar
 
 from eventlab.errors import SignalError
-from eventlab.symmetrical import abc_to_012
+from eventlab.symmetrical import abc_to_012, seq012_to_abc
 
 from .estimate import LocatorEstimate
 from .inputs import TerminalPhasors
 from .line import LineData
-from .loops import fault_resistance_from_loop, loop_current, loop_drop, loop_voltage, select_loop
+from .loops import fault_resistance_from_loop, loop_current, loop_voltage, select_loop
 
 
 @dataclass(frozen=True)
@@ -104,13 +112,77 @@ def _sequence_for(fault_type: str) -> int:
     return 1 if fault_type == "ABC" else 2
 
 
+def to_fault(line: LineData, d_km: float, v_012: np.ndarray, i_012: np.ndarray,
+             omega: float) -> tuple[np.ndarray, np.ndarray]:
+    """Sequence voltage at ``d_km`` and the current arriving there from the from-end.
+
+    Parameters
+    ----------
+    line : LineData
+    d_km : float
+        Distance from the from-end [km] (clamped to the line).
+    v_012, i_012 : complex array (3,)
+        Sequence voltage [V] and current into the line [A] at the from-end.
+    omega : float
+        Angular frequency [rad/s] for the shunt admittance.
+
+    Returns
+    -------
+    v_f_012, i_f_012 : complex arrays (3,)
+        Voltage at ``d_km`` [V] and the current leaving the last piece into the
+        point [A] (the piece's half shunt at that point already taken).
+
+    Notes
+    -----
+    Nominal pi per piece: ``I_s = I - (Y/2) V``, ``V' = V - Z I_s``,
+    ``I' = I_s - (Y/2) V'`` with ``Z = z l``, ``Y = j w c l`` (c1 for the
+    positive and negative, c0 for the zero sequence).
+    """
+    v = np.array(v_012, dtype=complex)
+    i = np.array(i_012, dtype=complex)
+    d = float(np.clip(d_km, 0.0, line.length_km))
+    start = 0.0
+    for sec in line.sections:
+        end = start + sec.length_km
+        piece = min(end, d) - start
+        if piece > 0:
+            z = np.array([sec.z0_ohm_per_km, sec.z1_ohm_per_km, sec.z1_ohm_per_km]) * piece
+            c = np.array([sec.c0_nf_per_km, sec.c1_nf_per_km, sec.c1_nf_per_km]) * 1e-9 * piece
+            half = 0.5j * omega * c
+            i_s = i - half * v
+            v = v - z * i_s
+            i = i_s - half * v
+        if end >= d:
+            break
+        start = end
+    return v, i
+
+
+def _both_sides(local: TerminalPhasors, remote: TerminalPhasors, line: LineData, d: float):
+    """(V_f from local, V_f from remote, I arriving from local, from remote), sequence (3,)."""
+    w = local.omega
+    vl, il = to_fault(line, d, abc_to_012(local.v_fault), abc_to_012(local.i_fault), w)
+    far = LineData(line.line_id, tuple(reversed(line.sections)))  # structures not needed
+    vr, ir = to_fault(far, line.length_km - d, abc_to_012(remote.v_fault),
+                      abc_to_012(remote.i_fault), w)
+    return vl, vr, il, ir
+
+
 def _resistance(local: TerminalPhasors, remote_aligned: TerminalPhasors, line: LineData,
                 d_km: float) -> float:
     loop = select_loop(local.fault_type)
-    v_f = loop_voltage(local.v_fault, loop) - loop_drop(line, d_km, local.i_fault, loop)
-    i_f = loop_current(local.i_fault + remote_aligned.i_fault, loop)
+    vl, _, il, ir = _both_sides(local, remote_aligned, line, d_km)
+    v_f = loop_voltage(seq012_to_abc(vl), loop)
+    i_f = loop_current(seq012_to_abc(il + ir), loop)
     r_loop = (v_f * np.conj(i_f)).real / max(abs(i_f) ** 2, 1e-300)
     return fault_resistance_from_loop(local.fault_type, r_loop)
+
+
+def _roots(fun, length: float, n: int = 141) -> list[float]:
+    grid = np.linspace(-0.2 * length, 1.2 * length, n)
+    vals = np.array([fun(x) for x in grid])
+    return [brentq(fun, grid[k], grid[k + 1], xtol=1e-12 * length)
+            for k in range(n - 1) if vals[k] == 0 or vals[k] * vals[k + 1] < 0]
 
 
 def two_ended_synchronised(local: TerminalPhasors, remote: TerminalPhasors, line: LineData,
@@ -129,46 +201,40 @@ def two_ended_synchronised(local: TerminalPhasors, remote: TerminalPhasors, line
 
     Notes
     -----
-    Equation (1) on positive-sequence quantities, in each section ``k``
-    ``a_k - x z1_k (I_L + I_R) = 0`` with
-    ``a_k = V_L - V_R + Z_L I_R - Z1(d_k)(I_L + I_R)``, solved for real ``x``
-    in the least-squares sense.  The fault resistance follows from the fault
-    loop: ``R = Re(V_f / I_f)``, ``I_f = I_L + I_R`` in the loop.  Source:
-    IEEE Std C37.114-2014, two-ended methods (from memory); A. A. Girgis,
-    D. G. Hart, W. L. Peterson, "A new fault location technique for two- and
-    three-terminal lines", IEEE Trans. Power Delivery 7(1), 1992 (from memory).
+    Equation (1) on positive-sequence quantities: ``d`` minimises
+    ``|V_f,L(d) - V_f,R(L - d)|`` (for a series line
+    ``d = Re(a conj(b)) / |b|^2`` with ``a = V_L - V_R + Z_L I_R``,
+    ``b = z1 (I_L + I_R)``).  The fault resistance follows from the fault
+    loop: ``R = Re(V_f / I_f)`` with ``I_f`` the sum of the currents arriving
+    from both sides.  Source: IEEE Std C37.114-2014, two-ended methods (from
+    memory); A. A. Girgis, D. G. Hart, W. L. Peterson, "A new fault location
+    technique for two- and three-terminal lines", IEEE Trans. Power Delivery
+    7(1), 1992 (from memory).
     """
     rem = remote if aligned else align_remote(local, remote)
-    v_l, i_l = abc_to_012(local.v_fault)[1], abc_to_012(local.i_fault)[1]
-    v_r, i_r = abc_to_012(rem.v_fault)[1], abc_to_012(rem.i_fault)[1]
-    s = i_l + i_r
+    s = abc_to_012(local.i_fault)[1] + abc_to_012(rem.i_fault)[1]
     if abs(s) < 1e-9:
         raise SignalError("two-ended: the sum of the end currents is zero; no fault current")
-    bounds = line.boundaries_km()
-    zl = line.z1_ohm
-    best = None
-    for k, sec in enumerate(line.sections):
-        z1k, _ = line.z_to(bounds[k])
-        a = v_l - v_r + zl * i_r - z1k * s
-        b = sec.z1_ohm_per_km * s
-        x = float((a * np.conj(b)).real / abs(b) ** 2)
-        resid = abs(a - x * b)
-        d = bounds[k] + x
-        inside = -1e-9 <= x <= sec.length_km * (1 + 1e-9)
-        if inside:
-            best = (d, resid)
-            break
-        if best is None or resid < best[1]:
-            best = (d, resid)
-    d = best[0]
-    return LocatorEstimate("two_ended_sync", d, line.length_km,
+    length = line.length_km
+
+    def mismatch(d):
+        vl, vr, _, _ = _both_sides(local, rem, line, d)
+        return abs(vl[1] - vr[1])
+
+    grid = np.linspace(0.0, length, 41)
+    vals = [mismatch(x) for x in grid]
+    k = int(np.argmin(vals))
+    lo, hi = grid[max(k - 1, 0)], grid[min(k + 1, len(grid) - 1)]
+    d = float(minimize_scalar(mismatch, bounds=(lo, hi), method="bounded",
+                              options={"xatol": 1e-9 * length}).x)
+    return LocatorEstimate("two_ended_sync", d, length,
                            terminal=local.terminal_id or line.from_terminal,
                            fault_resistance_ohm=_resistance(local, rem, line, d),
                            notes=("positive-sequence quantities, time-aligned records",),
-                           extra={"mismatch_v": float(best[1])})
+                           extra={"mismatch_v": float(mismatch(d))})
 
 
-def _pick_root(roots, local, remote, line, v_l, i_l, v_r, i_r, delta_pre):
+def _pick_root(roots, local, remote, line, seq, delta_pre):
     """Of two roots on the line keep the physical one.
 
     The fault impedance ``V_f / I_f`` of the fault loop is resistive at the
@@ -180,16 +246,16 @@ def _pick_root(roots, local, remote, line, v_l, i_l, v_r, i_r, delta_pre):
     loop = select_loop(local.fault_type)
     scores = []
     for r in roots:
-        z_r = line.z_to(r)[0]
-        rhs = v_r - (zl - z_r) * i_r
-        delta = float(np.angle((v_l - z_r * i_l) / rhs)) if abs(rhs) > 0 else 0.0
-        v_f = loop_voltage(local.v_fault, loop) - loop_drop(line, r, local.i_fault, loop)
-        i_f = loop_current(local.i_fault + remote.i_fault * np.exp(1j * delta), loop)
+        vl, vr, _, _ = _both_sides(local, remote, line, r)
+        delta = float(np.angle(vl[seq] / vr[seq])) if abs(vr[seq]) > 0 else 0.0
+        vl, _, il, ir = _both_sides(local, remote.rotated(delta), line, r)
+        v_f = loop_voltage(seq012_to_abc(vl), loop)
+        i_f = loop_current(seq012_to_abc(il + ir), loop)
         z_f = v_f / i_f if abs(i_f) > 0 else 0j
-        resistive = abs(z_f.imag) / max(abs(z_f), 1e-12 * abs(zl))
+        score = abs(z_f.imag) / max(abs(z_f), 1e-12 * abs(zl))
         if abs(z_f) < 1e-3 * abs(zl) and delta_pre is not None:
-            resistive = abs(np.angle(np.exp(1j * (delta - delta_pre))))
-        scores.append((resistive, abs(r - line.length_km / 2), r))
+            score = abs(np.angle(np.exp(1j * (delta - delta_pre))))
+        scores.append((score, abs(r - line.length_km / 2), r))
     return min(scores)[2]
 
 
@@ -201,53 +267,54 @@ def two_ended_unsynchronised(local: TerminalPhasors, remote: TerminalPhasors,
     -----
     The magnitudes of both sides of (1) are equal whatever the rotation:
 
-        |V_L - Z(d) I_L| = |V_R - (Z_L - Z(d)) I_R|                          (2)
+        |V_f,L(d)| = |V_f,R(L - d)|   (series line: |V_L - Z(d) I_L| = |V_R - (Z_L - Z(d)) I_R|)  (2)
 
     with negative-sequence quantities for unbalanced faults and positive-sequence
     quantities for three-phase faults; (2) is a quadratic in ``d`` for a
-    homogeneous line, solved here by bracketing along the route.  The
-    rotation ``delta`` follows from (1) and gives the fault resistance as for
-    the synchronised method.  Source: D. Novosel, D. G. Hart, E. Udren,
-    J. Garitty, "Unsynchronized two-terminal fault location estimation",
-    IEEE Trans. Power Delivery 11(1), pp. 130-138, 1996 (from memory).
+    homogeneous series line, solved here by bracketing along the route.  The
+    rotation ``delta = angle(V_f,L / V_f,R)`` gives the fault resistance as for
+    the synchronised method.  Of two roots on the line the one with a
+    resistive fault impedance is kept.  Source: D. Novosel, D. G. Hart,
+    E. Udren, J. Garitty, "Unsynchronized two-terminal fault location
+    estimation", IEEE Trans. Power Delivery 11(1), pp. 130-138, 1996 (from
+    memory).
     """
     seq = _sequence_for(local.fault_type)
-    v_l, i_l = abc_to_012(local.v_fault)[seq], abc_to_012(local.i_fault)[seq]
-    v_r, i_r = abc_to_012(remote.v_fault)[seq], abc_to_012(remote.i_fault)[seq]
-    length, zl = line.length_km, line.z1_ohm
+    length = line.length_km
 
     def g(d):
-        z = line.z_to(d)[0]
-        return abs(v_l - z * i_l) ** 2 - abs(v_r - (zl - z) * i_r) ** 2
+        vl, vr, _, _ = _both_sides(local, remote, line, d)
+        return abs(vl[seq]) ** 2 - abs(vr[seq]) ** 2
 
-    grid = np.linspace(-0.2 * length, 1.2 * length, 141)
-    vals = np.array([g(x) for x in grid])
-    roots = [brentq(g, grid[k], grid[k + 1], xtol=1e-12 * length)
-             for k in range(len(grid) - 1) if vals[k] * vals[k + 1] < 0 or vals[k] == 0]
     i1_pre_l, i1_pre_r = abc_to_012(local.i_pre)[1], abc_to_012(remote.i_pre)[1]
     have_pre = abs(i1_pre_r) > 1e-9 and abs(i1_pre_l) > 1e-9
     delta_pre = float(np.angle(-i1_pre_l / i1_pre_r)) if have_pre else None
+    roots = [r for r in _roots(g, length)]
     if roots:
         inside = [r for r in roots if 0.0 <= r <= length] or [
             min(roots, key=lambda r: min(abs(r), abs(r - length)))]
-        if len(inside) > 1:
-            d = _pick_root(inside, local, remote, line, v_l, i_l, v_r, i_r, delta_pre)
-        else:
-            d = inside[0]
+        d = (_pick_root(inside, local, remote, line, seq, delta_pre) if len(inside) > 1
+             else inside[0])
     else:
         # a double root (both sides vanish at the fault: bolted three-phase fault)
-        k = int(np.argmin(np.abs(vals)))
+        grid = np.linspace(0.0, length, 201)
+        vals = np.abs([g(x) for x in grid])
+        k = int(np.argmin(vals))
         lo, hi = grid[max(k - 1, 0)], grid[min(k + 1, len(grid) - 1)]
         d = float(minimize_scalar(lambda x: abs(g(x)), bounds=(lo, hi), method="bounded",
                                   options={"xatol": 1e-10 * length}).x)
+        v_l = abc_to_012(local.v_fault)[seq]
+        v_r = abc_to_012(remote.v_fault)[seq]
         scale = max(abs(v_l), abs(v_r), 1e-300) ** 2
         if abs(g(d)) > 1e-6 * scale:
             raise SignalError("two-ended unsynchronised: no distance satisfies the equation "
                               "near the line; check the pairing of the records with the ends")
-    z = line.z_to(d)[0]
-    lhs, rhs = v_l - z * i_l, v_r - (zl - z) * i_r
-    if abs(rhs) > 1e-6 * max(abs(v_l), abs(v_r), 1e-300):
-        delta = float(np.angle(lhs / rhs))
+    d = float(np.clip(d, 0.0, length)) if -0.01 * length < d < 1.01 * length else d
+    vl, vr, _, _ = _both_sides(local, remote, line, d)
+    v_scale = max(abs(abc_to_012(local.v_fault)[seq]), abs(abc_to_012(remote.v_fault)[seq]),
+                  1e-300)
+    if abs(vr[seq]) > 1e-6 * v_scale:
+        delta = float(np.angle(vl[seq] / vr[seq]))
     elif delta_pre is not None:
         # fault-point voltage ~ 0: the through load current gives the angle
         delta = delta_pre
