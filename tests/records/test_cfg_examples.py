@@ -285,3 +285,19 @@ def test_zip_with_one_record_and_unsafe_members(tmp_path):
             zf.writestr(zipfile.ZipInfo(bad_name), MULTI_DAT)
         with pytest.raises(RecordFormatError, match="absolute or '..' path"):
             read_record(bad)
+
+
+def test_ascii_floating_point_values_and_leap_second(tmp_path):
+    # 2013 allows floating-point notation in ASCII data (clause 4.5, from memory)
+    dat = ("1,0,1.5e2,100,0,1\n2,1000,-2.25,-100,0,1\n3,2000,0.125,300,1,1\n"
+           "4,4000,3,50,1,0\n5,6000,-7.5E-1,-50,1,0\n")
+    cfg = write_case(tmp_path, "flt", MULTI_CFG, dat)
+    rec = read_record(cfg)
+    # VA = 0.01 x kV (PS = P)
+    np.testing.assert_allclose(rec.analog[0].values, [1.5, -0.0225, 0.00125, 0.03, -0.0075])
+    assert_matches_reference(rec, load_reference(cfg))
+    # a stamp at second 60 is a leap second (leapsec field, clause 6.13): carried into the
+    # next minute here (the comtrade package refuses it)
+    text = MULTI_CFG.replace("02/12/2026,01:02:03.123456", "31/12/2016,23:59:60.500000")
+    rec = read_record(write_case(tmp_path, "leap", text, dat))
+    assert rec.start == datetime(2017, 1, 1, 0, 0, 0, 500000)
