@@ -44,3 +44,22 @@ def test_select_window_and_channels_round_trip(tmp_path):
     np.testing.assert_allclose(back.analog[0].values, ref.analog[0])
     np.testing.assert_allclose(back.analog[0].values, cut.analog[0].values, atol=back.analog[0].a)
     assert back.start == cut.start
+
+
+def test_argument_checks(tmp_path):
+    rec = make_record("X", 1000.0, [("VA", "A", "V", np.zeros(4))])
+    with pytest.raises(ValueError, match="primary"):
+        read_record(tmp_path / "x.cfg", values="both")
+    with pytest.raises(ValueError, match="needs revision 2013"):
+        write_record(rec, tmp_path / "x", revision=1999, data_format="FLOAT32")
+    with pytest.raises(ValueError, match="needs revision 2013"):
+        write_record(rec, tmp_path / "x", revision=1999, single_file=True)
+    with pytest.raises(ValueError, match="data_format"):
+        write_record(rec, tmp_path / "x", data_format="BINARY16")
+    bad = make_record("X", 1000.0, [("VA, VB", "A", "V", np.zeros(4))])
+    with pytest.raises(ValueError, match="comma"):
+        write_record(bad, tmp_path / "x")
+    # an existing folder: the stem is the station name
+    paths = write_record(make_record("CARDON REACH", 1000.0, [("VA", "A", "V", np.zeros(4))]),
+                         tmp_path)
+    assert [p.name for p in paths] == ["CARDON_REACH.cfg", "CARDON_REACH.dat"]
