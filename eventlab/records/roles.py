@@ -85,23 +85,23 @@ class TerminalChannels:
 
 
 def to_si(ch: AnalogChannel) -> AnalogChannel:
-    """``ch`` with values in [V] or [A] when its unit is a multiple of them."""
+    """``ch`` with values in [V] or [A] when its unit is a multiple of them (kV, kA, mV, mA)."""
     q = _UNITS.get(ch.unit.strip())
-    if q is None or q[1] == 1.0:
-        return ch if q is None or ch.unit.strip() in ("V", "A") else replace(
-            ch, unit="V" if q[0] == "V" else "A")
+    if q is None:
+        return ch
+    si_unit = "V" if q[0] == "V" else "A"
+    if q[1] == 1.0:
+        return ch if ch.unit == si_unit else replace(ch, unit=si_unit)
     f = q[1]
     v = ch.values * f
     v.setflags(write=False)
-    return replace(ch, unit="V" if q[0] == "V" else "A", a=ch.a * f, b=ch.b * f, values=v)
+    return replace(ch, unit=si_unit, a=ch.a * f, b=ch.b * f, values=v)
 
 
 def quantity(ch: AnalogChannel) -> str:
-    """"V", "I" or "" from the unit, else from the name's first letter."""
+    """"V", "I", or "" when the unit is neither a voltage nor a current unit."""
     q = _UNITS.get(ch.unit.strip())
-    if q is not None:
-        return q[0]
-    return ""
+    return q[0] if q is not None else ""
 
 
 def _tokens(text: str) -> list[str]:
