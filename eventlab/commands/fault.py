@@ -163,6 +163,16 @@ def table_lines(model: NetworkModel, result: FaultResult) -> list[str]:
         for k, p in enumerate(PHASES):
             out.append(f"  {p:6}{_fmt(t.i_abc[k])}   {_fmt(t.v_abc[k], 1e3, 3)}   "
                        f"{_fmt(t.i_abc_pre[k])}")
+    trafo = [b for b in result.branches if b.kind == "transformer"]
+    if trafo:
+        out.append("")
+        out.append("Transformers (current from the bus into the winding; vector-group shift "
+                   "and zero-sequence blocking included)")
+        out.append(f"  {'':18}" + "".join(f"{'I' + p + ' [A]':>10} {'deg':>8}" for p in PHASES))
+        for b in trafo:
+            vg = next(t.vector_group for t in model.transformers if t.id == b.element)
+            label = f"{b.element} {vg} {b.bus}"
+            out.append(f"  {label:18}" + "".join(_fmt(b.i_abc[k]) for k in range(3)))
     return out
 
 

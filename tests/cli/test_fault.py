@@ -101,3 +101,29 @@ def test_show_work_hand_check_of_thevenin_impedances(capsys):
         hand = re.search(rf"^     {name} = .* = (.*) pu$", out, re.M).group(1)
         solved = re.search(rf"^   {name} = (.*) pu = .* ohm$", out, re.M).group(1)
         assert hand == solved
+
+
+def test_transformer_table_and_delta_star_currents(capsys, tmp_path):
+    (tmp_path / "t.toml").write_text(
+        '[system]\nname = "t"\nfrequency_hz = 50.0\nbase_mva = 100.0\n'
+        '[[bus]]\nid = "H"\nkv = 132.0\n[[bus]]\nid = "L"\nkv = 33.0\n'
+        '[[source]]\nbus = "H"\nsc_mva = 3000.0\nx_r = 10.0\nx0_x1 = 1.2\n'
+        '[[transformer]]\nid = "T1"\nhv_bus = "H"\nlv_bus = "L"\nmva = 60.0\n'
+        'z_percent = 10.0\nx_r = 20.0\nvector_group = "Dyn11"\n')
+    rc, out, _ = _run_model(capsys, str(tmp_path / "t.toml"), "--bus", "L", "--type", "AG",
+                            "--json", str(tmp_path / "t.json"))
+    assert rc == 0 and "T1 Dyn11 H" in out
+    d = json.loads((tmp_path / "t.json").read_text())
+    i_lv = d["fault"]["currents"]["A"][0]
+    hv = next(b for b in d["branches"] if b["element"] == "T1" and b["bus"] == "H")
+    mags = sorted(hv["currents"][p][0] for p in "ABC")
+    # a phase-to-ground fault behind a delta-star transformer shows in two HV phases as
+    # I_LV (U_LV / U_HV) / sqrt(3), opposite, and not in the third (common practice, no source)
+    assert mags[0] < 1e-6 * i_lv
+    np.testing.assert_allclose(mags[1:], i_lv * 33.0 / 132.0 / np.sqrt(3), rtol=1e-9)
+
+
+def _run_model(capsys, model, *argv):
+    rc = main(["fault", "--model", model, *argv])
+    out = capsys.readouterr()
+    return rc, out.out, out.err
