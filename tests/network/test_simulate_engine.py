@@ -16,8 +16,11 @@ import math
 import comtrade
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from eventlab.errors import ModelError
+from eventlab.faulttypes import FAULT_TYPES
 from eventlab.network.emt import GROUND, CircuitBuilder, Stepper, element_current_index
 from eventlab.network.emt_ct import CtSaturation
 from eventlab.network.faults import FaultSpec, prefault, solve_fault
@@ -151,6 +154,25 @@ def test_steady_state_phasors_agree_with_fault_solver(label, model_kw, fault):
         i0 = _fft_phasors(rec, ROLES_I, 2.0 / 60.0 + 0.5 / rec.sample_rate_hz)
         _assert_phasors_close(v0, pre[tid][0], 1.0, f"{tid} V pre")
         _assert_phasors_close(i0, pre[tid][1], 1.0, f"{tid} I pre")
+
+
+@settings(max_examples=12)
+@given(fraction=st.one_of(st.sampled_from([0.0, 1.0]), st.floats(0.01, 0.99)),
+       code=st.sampled_from(FAULT_TYPES), r_f=st.floats(0.0, 30.0),
+       sectioned=st.booleans())
+def test_steady_state_agreement_holds_anywhere_on_the_line(fraction, code, r_f, sectioned):
+    model = _model(sections=CASES[5][1]["sections"] if sectioned else None)
+    spec = SimulationSpec(line="L1", fraction=fraction, type=code, r_fault_ohm=r_f,
+                          inception_s=0.05, clear_after_s=None, duration_s=0.45, **FAST)
+    result = simulate(model, spec)
+    ref = solve_fault(model, FaultSpec("L1", fraction, code, r_f))
+    for tid, rec in result.records.items():
+        ts = ref.terminals[tid]
+        end = rec.time[-1] + 0.5 / rec.sample_rate_hz
+        _assert_phasors_close(_fft_phasors(rec, ROLES_V, end), ts.v_abc,
+                              0.01 * np.abs(ts.v_abc).max(), f"{tid} V")
+        _assert_phasors_close(_fft_phasors(rec, ROLES_I, end), ts.i_abc,
+                              0.01 * np.abs(ts.i_abc).max(), f"{tid} I")
 
 
 def test_evolving_fault_settles_to_the_second_type():
