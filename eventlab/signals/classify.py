@@ -44,6 +44,9 @@ BALANCE_RATIO = 0.10     # |x2| and |x0| below this times |dx1|: balanced (ABC)
 LOOP_EQUAL = 0.75        # min/max loop delta above this: all three loops alike (ABC)
 SAG_FAULT = 0.90         # V1 fault / V1 prefault below this: a voltage sag
 WEAK_CURRENT = 0.20      # max |dI| under this times the prefault max |I|: currents ambiguous
+V0_GROUND = 0.02         # |V0| over the prefault |V1| that confirms ground with >= 0.03 ratio
+DLG_SECOND = 0.50        # two-phase pattern: second largest |dI| at least this of the largest
+DLG_THIRD = 0.20         # ... and the smallest at most this of the largest
 
 
 @dataclass(frozen=True)
@@ -76,7 +79,8 @@ def _wrap180(deg: float) -> float:
     return float((deg + 180.0) % 360.0 - 180.0)
 
 
-def _decide(d_abc: np.ndarray, x_012: np.ndarray, basis: str) -> Classification:
+def _decide(d_abc: np.ndarray, x_012: np.ndarray, basis: str,
+            v0_ratio: float | None = None) -> Classification:
     """Phase selection from superimposed phasors ``d_abc`` and fault-window sequence ``x_012``."""
     d_abc = np.asarray(d_abc, dtype=complex)
     mags = np.abs(d_abc)
@@ -102,7 +106,12 @@ def _decide(d_abc: np.ndarray, x_012: np.ndarray, basis: str) -> Classification:
                      (1.0 - LOOP_EQUAL))
         return Classification("ABC", 0.5 + 0.5 * _clip01(margin), False, basis, ev,
                               "balanced superimposed quantities in all three loops")
-    if ground_ratio > GROUND_RATIO and abs(x0) > 0:
+    # a zero-sequence voltage confirms a weaker ground current (high resistance to ground)
+    by_v0 = (v0_ratio is not None and v0_ratio > V0_GROUND
+             and ground_ratio > 0.3 * GROUND_RATIO)
+    if v0_ratio is not None:
+        ev["v0_over_v1_prefault"] = float(v0_ratio)
+    if (ground_ratio > GROUND_RATIO or by_v0) and abs(x0) > 0:
         ang = _wrap180(float(np.degrees(np.angle(x2 / x0))))
         ev["angle_x2_x0_deg"] = ang
         centre, lone = min(_SECTORS, key=lambda s: abs(_wrap180(ang - s[0])))
@@ -113,8 +122,25 @@ def _decide(d_abc: np.ndarray, x_012: np.ndarray, basis: str) -> Classification:
         ev["lone_over_others"] = float(ratio)
         m_sector = 1.0 - off / 60.0
         m_ratio = abs(np.log(max(ratio, 1e-300))) / np.log(3.0)
-        g_margin = min(1.0, (ground_ratio - GROUND_RATIO) / GROUND_RATIO)
+        g_margin = (min(1.0, (ground_ratio - GROUND_RATIO) / GROUND_RATIO)
+                    if ground_ratio > GROUND_RATIO else 0.25)
         conf = 0.5 + 0.5 * _clip01(min(m_sector, m_ratio, g_margin))
+        # two phases carry the superimposed current and the third almost none: a
+        # two-phase-to-ground fault whatever the sector (fault resistance to ground turns
+        # arg(I2/I0) of such a fault towards the neighbouring single-phase sector)
+        order = np.argsort(mags)[::-1]
+        big, mid, small = mags[order]
+        if mid >= DLG_SECOND * big and small <= DLG_THIRD * big:
+            healthy = int(order[2])
+            ev["pattern"] = "two phases"
+            agree = healthy == lone
+            conf_p = 0.5 + 0.5 * _clip01(min(1.0 - small / (DLG_THIRD * big), g_margin))
+            return Classification(
+                _DLG[healthy], conf_p if agree else 0.5 + 0.25 * (conf_p - 0.5),
+                True, basis, ev,
+                f"ground; phases other than {_PH[healthy]} carry the superimposed current"
+                + ("" if agree else f" (the I2/I0 sector points at phase {_PH[lone]}: "
+                                    f"resistance to ground)"))
         if ratio >= 1.0:
             return Classification(_SLG[lone], conf, True, basis, ev,
                                   f"ground; I2/I0 sector of phase {_PH[lone]}; phase "
@@ -162,10 +188,15 @@ def classify_fault(i_pre_abc, i_fault_abc, v_pre_abc=None, v_fault_abc=None, *,
 
     Notes
     -----
-    Ground involvement: ``|3 I0| > 0.1 max_p |dI_p|``.  Ground faults:
-    sector of ``arg(I2 / I0)`` (0, -120, +120 deg for the lone phase A, B, C),
-    then single-phase if the lone phase carries the largest superimposed
-    current, else the two-phase-to-ground fault of the other two phases.
+    Ground involvement: ``|3 I0| > 0.1 max_p |dI_p|``, or above 0.03 with
+    ``|V0| > 0.02 |V1_prefault|``.  Ground faults: if
+    two phases carry at least half the largest superimposed current and the
+    third at most a fifth, the two-phase-to-ground fault of those two
+    (resistance to ground turns the I2/I0 angle of such a fault towards the
+    neighbouring sector); otherwise the sector of ``arg(I2 / I0)`` (0, -120,
+    +120 deg for the lone phase A, B, C), then single-phase if the lone phase
+    carries the largest superimposed current, else the two-phase-to-ground
+    fault of the other two phases.
     Ungrounded: three-phase if the three loop deltas are alike
     (min/max > 0.75) and ``|I2|, |I0| < 0.1 |dI1|``; else the loop with the
     largest delta.  Voltages replace currents when the largest superimposed
@@ -185,10 +216,11 @@ def classify_fault(i_pre_abc, i_fault_abc, v_pre_abc=None, v_fault_abc=None, *,
         v_unbal = max(abs(v012_f[0]), abs(v012_f[2])) / v1_pre if v1_pre > 0 else np.nan
     m_i = float(np.abs(d_i).max())
     weak = m_i <= max(float(min_current_a), WEAK_CURRENT * float(np.abs(i_pre).max()))
+    v0_ratio = (abs(v012_f[0]) / v1_pre) if have_v and v1_pre > 0 else None
     if weak and have_v:
         out = _decide(v_f - v_pre, v012_f, "voltages")
     elif m_i > 0:
-        out = _decide(d_i, abc_to_012(i_f), "currents")
+        out = _decide(d_i, abc_to_012(i_f), "currents", v0_ratio)
     else:
         return Classification(NO_FAULT, 1.0, False, "", {}, "no superimposed current")
     ev = dict(out.evidence)
@@ -200,7 +232,10 @@ def classify_fault(i_pre_abc, i_fault_abc, v_pre_abc=None, v_fault_abc=None, *,
     ev["i_prefault_max_a"] = i_pre_max
     # a balanced change with no voltage sag is a load change or switching
     if out.type == "ABC":
-        no_sag = sag is not None and sag >= SAG_FAULT
+        # a step to over three times the load current with some sag is a resistive
+        # three-phase fault, not a load change (common practice, no source)
+        big_step = i_pre_max > 0 and m_i > 3.0 * i_pre_max
+        no_sag = sag is not None and (sag >= 0.97 or (sag >= SAG_FAULT and not big_step))
         small_step = sag is None and m_i < 2.0 * i_pre_max
         if no_sag or small_step:
             return Classification(NO_FAULT, 0.5 + 0.5 * _clip01((sag - SAG_FAULT) / 0.05)

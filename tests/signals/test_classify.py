@@ -57,3 +57,32 @@ def test_to_dict_is_plain():
     d = classify_fault(i_pre, i_f, v_pre, v_f).to_dict()
     assert d["type"] == "BG" and d["ground"] is True
     assert -180 <= d["evidence"]["angle_x2_x0_deg"] <= 180
+
+
+_SOURCES = [((4 + 40j, 2 + 20j), (6 + 60j, 3 + 30j)), ((1 + 10j, 2 + 20j), (1 + 8j, 3 + 30j)),
+            ((20 + 200j, 2 + 20j), (60 + 600j, 30 + 300j)), ((4 + 40j, 10 + 100j), (1 + 8j, 3 + 30j))]
+
+
+@pytest.mark.parametrize("zs, zr", _SOURCES)
+@pytest.mark.parametrize("r_fault_ohm", [0.0, 5.0])
+def test_grid_of_systems_and_positions(zs, zr, r_fault_ohm):
+    # strong/weak, low/high zero-sequence sources at both ends, fault anywhere on the line
+    s = System(zs=zs, zr=zr)
+    for ftype in FAULT_TYPES:
+        for fraction in (0.02, 0.3, 0.7, 0.98):
+            v_pre, i_pre = steady_phasors(s, fraction, None)
+            v_f, i_f = steady_phasors(s, fraction, ftype, r_fault_ohm)
+            c = classify_fault(i_pre, i_f, v_pre, v_f)
+            assert c.type == ftype, (ftype, fraction, c.reason)
+
+
+def test_resistance_to_ground_two_phase_fault():
+    # 30 ohm to ground: arg(I2/I0) moves into the neighbouring single-phase sector; the
+    # two-phase current pattern still gives the two-phase-to-ground fault
+    s = System()
+    for ftype in ("ABG", "BCG", "CAG"):
+        v_pre, i_pre = steady_phasors(s, 0.09, None)
+        v_f, i_f = steady_phasors(s, 0.09, ftype, 30.0)
+        c = classify_fault(i_pre, i_f, v_pre, v_f)
+        assert c.type == ftype
+        assert abs(c.evidence["angle_x2_x0_deg"]) % 120 > 30   # off its sector centre
