@@ -67,6 +67,8 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--line-model", choices=("rl", "pi"), default=None,
                         help="series R-L, or pi sections with the line capacitance (default: "
                              "pi when the model gives capacitance)")
+    parser.add_argument("--vt-side", choices=("line", "bus"), default="line",
+                        help="VTs on the line side of the breaker or on the bus (default line)")
     parser.add_argument("--rate", type=int, default=64, metavar="SAMPLES_PER_CYCLE",
                         help="recorder samples per cycle (default 64)")
     parser.add_argument("--format", choices=tuple(_FORMATS), default="binary",
@@ -103,7 +105,7 @@ def run(args: argparse.Namespace) -> int:
             seed=args.seed, ct_saturation=ct, evolve_to=args.evolve_to,
             evolve_after_s=args.evolve_after, reclose_after_s=args.reclose_after,
             permanent=not args.temporary, single_pole=args.single_pole,
-            frequency_hz=args.frequency,
+            frequency_hz=args.frequency, vt_side=args.vt_side,
             line_model=args.line_model)
     except ValueError as exc:
         raise ModelError(f"simulate: {exc}") from None

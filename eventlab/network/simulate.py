@@ -71,6 +71,8 @@ DEFAULT_START = datetime(2025, 3, 14, 2, 17, 5, 120000)
 
 LineModel = Literal["rl", "pi"]
 LINE_MODELS: tuple[str, ...] = ("rl", "pi")
+VtSide = Literal["line", "bus"]
+VT_SIDES: tuple[str, ...] = ("line", "bus")
 
 
 @dataclass(frozen=True)
@@ -152,6 +154,9 @@ class SimulationSpec:
         Longest pi section [km] for ``"pi"``; default one pi per piece of
         line between section joints and the fault point (the circuit the
         fault solver uses).
+    vt_side : {"line", "bus"}
+        Where the VTs measure: on the line side of the breaker (they see the
+        line go dead when it opens) or on the bus.
     ct_ratio : (float, float), optional
         CT primary and secondary rating [A]; default 1200/5 at 60 Hz or
         1200/1 at 50 Hz.
@@ -188,6 +193,7 @@ class SimulationSpec:
     load_step: LoadStep | None = None
     line_model: LineModel | None = None
     pi_segment_km: float | None = None
+    vt_side: VtSide = "line"
     ct_ratio: tuple[float, float] | None = None
     vt_ratio: tuple[float, float] | None = None
     start: datetime = DEFAULT_START
@@ -233,6 +239,8 @@ class SimulationSpec:
         if not (isinstance(self.steps_per_cycle, int) and self.steps_per_cycle >= 64):
             raise ValueError(f"steps_per_cycle must be an integer >= 64, got "
                              f"{self.steps_per_cycle!r}")
+        if self.vt_side not in VT_SIDES:
+            raise ValueError(f"vt_side must be one of {', '.join(VT_SIDES)}, got {self.vt_side!r}")
         if self.line_model is not None and self.line_model not in LINE_MODELS:
             raise ValueError(f"line_model must be one of {', '.join(LINE_MODELS)}, "
                              f"got {self.line_model!r}")
@@ -704,7 +712,12 @@ def simulate(model: NetworkModel, spec: SimulationSpec) -> SimulationResult:
         cur_slot[key] = slice(s0, s0 + 3)
     for key in keys:
         s0 = len(watch)
-        for node in lay.line_end_nodes[key]:
+        if spec.vt_side == "bus":
+            bus = key.split("@", 1)[1]
+            vt_nodes = [circuit.node_index(f"{bus}.{p}") for p in "ABC"]
+        else:
+            vt_nodes = lay.line_end_nodes[key]
+        for node in vt_nodes:
             watch.extend(element_voltage_index(circuit, lay.leak_of[node]).tolist())
         volt_slot[key] = slice(s0, s0 + 3)
 

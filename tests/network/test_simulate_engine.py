@@ -268,6 +268,17 @@ def test_no_numerical_oscillation_on_the_opened_line():
         assert np.abs(v[:, late]).max() < 1e-3 * 230e3 / math.sqrt(3.0)
 
 
+def test_bus_side_vts_keep_the_bus_voltage_after_opening():
+    # after clearing, a bus-side VT measures the source behind the bus: in the
+    # steady state the open-circuit EMF (circuit theory: no current through
+    # the source impedance), here 1.02 pu at W
+    result = _simple_result(vt_side="bus", noise=0.0, duration_s=0.45)
+    rec = result.records["W-L1"]
+    v = _fft_phasors(rec, ROLES_V, rec.time[-1] + 0.5 / rec.sample_rate_hz)
+    e_pu = 1.02 * 230e3 / math.sqrt(3.0)
+    np.testing.assert_allclose(np.abs(v), e_pu, rtol=0.005)
+
+
 def test_point_on_wave_of_the_local_phase_a_voltage():
     for angle in (0.0, 90.0, 250.0):
         result = _simple_result(inception_angle_deg=angle, noise=0.0)
