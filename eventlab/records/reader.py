@@ -133,6 +133,8 @@ def record_from_parts(info: CfgInfo, data: _dat.DatData, *, values: str = "prima
     # that stay in cache, with a and b tiled to the block so that every ufunc runs
     # one long contiguous loop; channel k is the column out[:, k].
     code = data.missing_code
+    code_is_min = code is not None and data.raw.dtype.kind == "i" and data.raw.dtype.itemsize in (
+        2, 4) and code == np.iinfo(data.raw.dtype).min
     out = np.empty((n, na), dtype=np.float64)
     block = max(1, 32768 // max(na, 1))
     a = np.tile(np.array([s.a for s in info.analog], dtype=np.float64), (min(block, n), 1))
@@ -141,7 +143,10 @@ def record_from_parts(info: CfgInfo, data: _dat.DatData, *, values: str = "prima
         o = out[i:i + block]
         m = o.shape[0]
         np.copyto(o, data.raw[i:i + block])
-        miss = (o == code) if code is not None else None
+        miss = None
+        # the binary codes are the integer type's minimum: one min() finds any
+        if code is not None and (not code_is_min or o.min() <= code):
+            miss = o == code
         np.multiply(o, a[:m], out=o)
         np.add(o, b[:m], out=o)
         if miss is not None and miss.any():
