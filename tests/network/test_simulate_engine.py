@@ -279,6 +279,20 @@ def test_bus_side_vts_keep_the_bus_voltage_after_opening():
     np.testing.assert_allclose(np.abs(v), e_pu, rtol=0.005)
 
 
+def test_anti_alias_filter_response_at_the_fundamental():
+    from scipy.signal import butter, sosfreqz
+
+    plain = _simple_result(noise=0.0, clear_after_s=None)
+    filt = _simple_result(noise=0.0, clear_after_s=None, anti_alias_hz=600.0)
+    fs = 60.0 * 512
+    # reference: the response of the same Butterworth design, scipy.signal.sosfreqz
+    _, h = sosfreqz(butter(2, 600.0, fs=fs, output="sos"), worN=[60.0], fs=fs)
+    for tid in plain.records:
+        a = _fft_phasors(plain.records[tid], ROLES_I + ROLES_V, 0.05)
+        b = _fft_phasors(filt.records[tid], ROLES_I + ROLES_V, 0.05)
+        np.testing.assert_allclose(b / a, h[0], rtol=2e-4)
+
+
 def test_point_on_wave_of_the_local_phase_a_voltage():
     for angle in (0.0, 90.0, 250.0):
         result = _simple_result(inception_angle_deg=angle, noise=0.0)
