@@ -98,20 +98,14 @@ class CircuitBuilder:
     def __init__(self) -> None:
         self.node_names: list[str] = []
         self.branches: list[Branch] = []
+        self._index: dict[str, int] = {}
 
     def node(self, name: str) -> int:
         """Index of node ``name``, created when new."""
-        if name in self._index:
-            return self._index[name]
-        self.node_names.append(name)
-        self._index[name] = len(self.node_names) - 1
+        if name not in self._index:
+            self.node_names.append(name)
+            self._index[name] = len(self.node_names) - 1
         return self._index[name]
-
-    @property
-    def _index(self) -> dict[str, int]:
-        if not hasattr(self, "_idx"):
-            self._idx: dict[str, int] = {}
-        return self._idx
 
     def bus(self, name: str) -> tuple[int, int, int]:
         """The three phase nodes A, B, C of a three-phase bus."""
