@@ -19,7 +19,7 @@ from typing import Any
 import numpy as np
 
 from eventlab import __version__
-from eventlab.errors import SignalError
+from eventlab.errors import ChannelMapError, SignalError
 from eventlab.records.model import Record
 from eventlab.records.roles import TerminalChannels, map_terminals
 from eventlab.signals.classify import Classification
@@ -432,6 +432,31 @@ def _terminal(record: Record, k_rec: int, term: TerminalChannels, n: int, fs: fl
     return ta, f_est, tracked
 
 
+def model_terminal(model, record: Record, line: str | None = None):
+    """The model's ``[[terminal]]`` for a record: same station (case-insensitive), on ``line``.
+
+    None when no terminal or more than one matches (the record's channels are
+    then mapped from their names).
+    """
+    st = record.station.strip().casefold()
+    hits = [t for t in getattr(model, "terminals", ())
+            if t.station.strip().casefold() == st and (line is None or t.line == line)]
+    return hits[0] if len(hits) == 1 else None
+
+
+def _reversed_currents(term: TerminalChannels) -> TerminalChannels:
+    def neg(ch):
+        if ch is None:
+            return None
+        v = -np.asarray(ch.values)
+        v.setflags(write=False)
+        return replace(ch, values=v)
+
+    return replace(term, currents=tuple(neg(c) for c in term.currents),
+                   neutral_current=neg(term.neutral_current),
+                   parallel_residual=neg(term.parallel_residual))
+
+
 def line_time_constant_s(model, line: str | None) -> float | None:
     """Offset time constant [s] from the positive-sequence X/R of a model line.
 
@@ -467,9 +492,11 @@ def analyze(records: Sequence[Record] | Record, model=None, line: str | None = N
     records : Record or sequence of Record
     model : NetworkModel, optional
         For the model-based steps (location, comparison; not in this version).
-        The signal chain takes from it only the offset time constant of the
-        mimic filter (:func:`line_time_constant_s`) when ``options.tau_s`` is
-        not given.
+        The signal chain takes from it the channel map of the record's
+        terminal (:func:`model_terminal`; currents negated for
+        ``ct_polarity = "reversed"``) unless ``options.channel_maps`` gives
+        one, and the offset time constant of the mimic filter
+        (:func:`line_time_constant_s`) when ``options.tau_s`` is not given.
     line : str, optional
         Line id in ``model`` (reserved).
     options : AnalysisOptions, optional
@@ -501,7 +528,22 @@ def analyze(records: Sequence[Record] | Record, model=None, line: str | None = N
                             f"{rec.frequency_hz:g} Hz cycle; resampled to {n} per cycle "
                             f"({n * rec.frequency_hz:g} Hz) for the phasors and the timeline")
         cmap = opts.channel_maps.get(k)
-        found = map_terminals(rec, cmap)
+        mt = None if (cmap is not None or model is None) else model_terminal(model, rec, line)
+        found = None
+        if mt is not None:
+            try:
+                found = map_terminals(rec, dict(mt.channels), label=mt.id)
+            except ChannelMapError as exc:
+                warnings.append(f"record {k}: the model's channel map of terminal {mt.id} "
+                                f"does not fit ({exc}); channels mapped from their names")
+                mt = None
+        if mt is not None and found is not None:
+            if getattr(mt, "ct_polarity", "normal") == "reversed":
+                found = tuple(_reversed_currents(t) for t in found)
+                warnings.append(f"record {k}: terminal {mt.id} has ct_polarity = reversed in "
+                                f"the model: currents negated (positive from bus into line)")
+        if found is None:
+            found = map_terminals(rec, cmap)
         f_first, tracked_any = None, False
         for term in found:
             ta, f_est, tracked = _terminal(rec, k, term, n, fs, opts, warnings)

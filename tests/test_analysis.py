@@ -236,3 +236,29 @@ def test_offset_time_constant_from_the_model_line():
     assert a.terminals[0].timeline.intervals[0].tau_s == pytest.approx(want)
     assert a.fault_type == "AG"
     assert a.to_dict()["location"] is None
+
+
+def test_model_terminal_gives_channel_map_and_polarity():
+    import dataclasses
+
+    from eventlab.network.model import load_model
+    from eventlab.records import read_record
+
+    root = Path(__file__).parents[1]
+    model = load_model(root / "models" / "northmarch_230kv.toml")
+    rec = read_record(root / "sample_events" / "vm_cr1_bg" / "VELLMOOR.cfg")
+    mt = next(t for t in model.terminals if t.station.casefold() == rec.station.casefold())
+    plain = analyze(rec).terminals[0]
+    with_model = analyze(rec, model=model, line=mt.line).terminals[0]
+    assert with_model.label == mt.id
+    assert with_model.prefault["IB"] == pytest.approx(plain.prefault["IB"], rel=1e-12)
+    rev = dataclasses.replace(model, terminals=tuple(
+        dataclasses.replace(t, ct_polarity="reversed") if t.id == mt.id else t
+        for t in model.terminals))
+    a = analyze(rec, model=rev, line=mt.line)
+    t = a.terminals[0]
+    # reversed CT: the currents are negated, the voltages and the fault type are not
+    assert t.prefault["IA"] == pytest.approx(-plain.prefault["IA"], rel=1e-9)
+    assert t.prefault["VA"] == pytest.approx(plain.prefault["VA"], rel=1e-9)
+    assert t.fault_type == plain.fault_type
+    assert any("reversed" in w for w in a.warnings)
