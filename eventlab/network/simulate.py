@@ -703,6 +703,11 @@ def simulate(model: NetworkModel, spec: SimulationSpec) -> SimulationResult:
     if mode == "pi" and not has_c:
         raise ModelError(f"{model.source_name}: simulate: line_model 'pi' needs c1_nf_per_km and "
                          f"c0_nf_per_km on the lines")
+    unknown = [t for t in spec.ct_saturation_at if t not in {x.id for x in model.terminals}]
+    if unknown:
+        raise ModelError(f"{model.source_name}: simulate: ct_saturation_at names unknown "
+                         f"terminal(s) {', '.join(unknown)}; terminals are "
+                         f"{', '.join(t.id for t in model.terminals)}")
     lay = _build(model, spec, mode)
     circuit = lay.circuit
     spc_int = _steps_per_cycle(spec)

@@ -473,6 +473,10 @@ def test_model_features_the_simulator_cannot_represent():
         simulate(_model(z2=[1.0, 12.0]), SimulationSpec(line="L1", fraction=0.5, type="AG"))
     with pytest.raises(ModelError, match="unknown line"):
         simulate(_model(), SimulationSpec(line="L9", fraction=0.5, type="AG"))
+    with pytest.raises(ModelError, match="unknown terminal"):
+        simulate(_model(), SimulationSpec(line="L1", fraction=0.5, type="AG",
+                                          ct_saturation=CtSaturation(),
+                                          ct_saturation_at=("NOPE",)))
     with pytest.raises(ValueError, match="fraction"):
         SimulationSpec(line="L1", fraction=1.5, type="AG")
     with pytest.raises(ValueError, match="unknown fault type"):
