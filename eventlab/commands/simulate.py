@@ -72,6 +72,9 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--anti-alias", type=float, default=None, metavar="HZ",
                         help="corner of a 2nd-order Butterworth anti-aliasing filter [Hz] "
                              "(default none)")
+    parser.add_argument("--adc-bits", type=int, default=None, metavar="BITS",
+                        help="quantise as a recorder converter of BITS bits would (default: "
+                             "only the file format quantises)")
     parser.add_argument("--rate", type=int, default=64, metavar="SAMPLES_PER_CYCLE",
                         help="recorder samples per cycle (default 64)")
     parser.add_argument("--format", choices=tuple(_FORMATS), default="binary",
@@ -109,7 +112,7 @@ def run(args: argparse.Namespace) -> int:
             evolve_after_s=args.evolve_after, reclose_after_s=args.reclose_after,
             permanent=not args.temporary, single_pole=args.single_pole,
             frequency_hz=args.frequency, vt_side=args.vt_side,
-            anti_alias_hz=args.anti_alias,
+            anti_alias_hz=args.anti_alias, adc_bits=args.adc_bits,
             line_model=args.line_model)
     except ValueError as exc:
         raise ModelError(f"simulate: {exc}") from None

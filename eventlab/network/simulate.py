@@ -161,6 +161,10 @@ class SimulationSpec:
         Corner frequency [Hz] of a second-order Butterworth low-pass in front
         of the recorder's sampler (none by default; it delays the
         fundamental by a few degrees, as a real recorder's filter does).
+    adc_bits : int, optional
+        Quantise the secondary values as a recorder's converter of this many
+        bits would, over the full scale of :func:`adc_full_scale` (values
+        beyond it clip).  Default: only the file writer quantises.
     ct_ratio : (float, float), optional
         CT primary and secondary rating [A]; default 1200/5 at 60 Hz or
         1200/1 at 50 Hz.
@@ -199,6 +203,7 @@ class SimulationSpec:
     pi_segment_km: float | None = None
     vt_side: VtSide = "line"
     anti_alias_hz: float | None = None
+    adc_bits: int | None = None
     ct_ratio: tuple[float, float] | None = None
     vt_ratio: tuple[float, float] | None = None
     start: datetime = DEFAULT_START
@@ -248,6 +253,9 @@ class SimulationSpec:
                                                    and self.anti_alias_hz > 0):
             raise ValueError(f"anti_alias_hz must be a positive frequency, got "
                              f"{self.anti_alias_hz!r}")
+        if self.adc_bits is not None and not (isinstance(self.adc_bits, int)
+                                              and 8 <= self.adc_bits <= 24):
+            raise ValueError(f"adc_bits must be an integer in 8..24, got {self.adc_bits!r}")
         if self.vt_side not in VT_SIDES:
             raise ValueError(f"vt_side must be one of {', '.join(VT_SIDES)}, got {self.vt_side!r}")
         if self.line_model is not None and self.line_model not in LINE_MODELS:
@@ -914,6 +922,9 @@ def simulate(model: NetworkModel, spec: SimulationSpec) -> SimulationResult:
         if spec.noise > 0:
             v_sec = v_sec + rng.normal(0.0, spec.noise * vt[1] / math.sqrt(3.0), v_sec.shape)
             i_sec = i_sec + rng.normal(0.0, spec.noise * ct[1], i_sec.shape)
+        if spec.adc_bits is not None:
+            v_sec = _adc(v_sec, adc_full_scale(vt[1], "V", spec.adc_bits)[0], spec.adc_bits)
+            i_sec = _adc(i_sec, adc_full_scale(ct[1], "A", spec.adc_bits)[0], spec.adc_bits)
         status = _status_waveforms(t_rec, key, trip_on, trip_off, opened, reclose_s)
         records[t.id] = _make_record(model, t, spec, t_rec, v_sec * vt_n, i_sec * ct_n,
                                      vt, ct, status, trigger_s)
@@ -941,6 +952,26 @@ def simulate(model: NetworkModel, spec: SimulationSpec) -> SimulationResult:
         if spec.type != NO_FAULT else {},
     )
     return SimulationResult(records=records, truth=truth, terminals=terms)
+
+
+def adc_full_scale(rated_secondary: float, unit: str, bits: int) -> tuple[float, float]:
+    """Full scale (peak) [V or A] and step of the simulated recorder's converter.
+
+    VT inputs span +-2 times the peak of the rated phase voltage
+    (``rated_secondary`` line-to-line [V]), CT inputs +-40 times the peak of
+    the rated current [A] (common practice, no source: fault recorders are
+    ranged for about 2 pu voltage and 20-40 times rated current).
+    """
+    if unit == "V":
+        fs = 2.0 * math.sqrt(2.0) * rated_secondary / math.sqrt(3.0)
+    else:
+        fs = 40.0 * math.sqrt(2.0) * rated_secondary
+    return fs, fs / (2 ** (bits - 1) - 1)
+
+
+def _adc(x: np.ndarray, full_scale: float, bits: int) -> np.ndarray:
+    step = full_scale / (2 ** (bits - 1) - 1)
+    return np.clip(np.rint(x / step), -(2 ** (bits - 1) - 1), 2 ** (bits - 1) - 1) * step
 
 
 def _anti_alias(x: np.ndarray, dt: float, corner_hz: float, steps_per_cycle: int) -> np.ndarray:

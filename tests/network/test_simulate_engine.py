@@ -293,6 +293,20 @@ def test_anti_alias_filter_response_at_the_fundamental():
         np.testing.assert_allclose(b / a, h[0], rtol=2e-4)
 
 
+def test_recorder_converter_quantises_the_secondary_values(tmp_path):
+    from eventlab.network.simulate import adc_full_scale
+
+    result = _simple_result(adc_bits=12, noise=0.0)
+    write_simulation(result, tmp_path, data_format="FLOAT32", revision=2013)
+    back = read_record(tmp_path / "WEST.cfg", values="secondary")
+    for ch in back.analog[:6]:
+        _, step = adc_full_scale(115.0 if ch.unit == "V" else 5.0, ch.unit, 12)
+        codes = ch.values / step
+        # FLOAT32 holds the converter's codes times the step (float32 rounding)
+        assert np.abs(codes - np.rint(codes)).max() < 1e-3
+        assert np.abs(codes).max() <= 2047
+
+
 def test_point_on_wave_of_the_local_phase_a_voltage():
     for angle in (0.0, 90.0, 250.0):
         result = _simple_result(inception_angle_deg=angle, noise=0.0)
