@@ -5,6 +5,8 @@ from __future__ import annotations
 import numpy as np
 import pytest
 from faultwaves import System, steady_phasors
+from hypothesis import given
+from hypothesis import strategies as st
 
 from eventlab.faulttypes import FAULT_TYPES, NO_FAULT
 from eventlab.signals.classify import classify_fault
@@ -86,3 +88,21 @@ def test_resistance_to_ground_two_phase_fault():
         c = classify_fault(i_pre, i_f, v_pre, v_f)
         assert c.type == ftype
         assert abs(c.evidence["angle_x2_x0_deg"]) % 120 > 30   # off its sector centre
+
+
+@given(ftype=st.sampled_from(FAULT_TYPES), fraction=st.floats(0.01, 0.99),
+       zs1=st.floats(2, 80), zr1=st.floats(2, 80), zl1=st.floats(10, 120),
+       k0s=st.floats(0.3, 3.0), k0r=st.floats(0.3, 3.0), k0l=st.floats(2.5, 3.5),
+       x_r=st.floats(5, 20), load_deg=st.floats(-20, 20),
+       r_fault_ohm=st.sampled_from([0.0, 1.0, 5.0]))
+def test_property_random_two_source_systems(ftype, fraction, zs1, zr1, zl1, k0s, k0r, k0l,
+                                            x_r, load_deg, r_fault_ohm):
+    # any source strengths (Z0/Z1 0.3..3), line Z0/Z1 2.5..3.5, X/R 5..20, load +-20 deg
+    def z(x):
+        return x / x_r + 1j * x
+
+    s = System(zs=(z(zs1 * k0s), z(zs1)), zl=(z(zl1 * k0l), z(zl1)), zr=(z(zr1 * k0r), z(zr1)),
+               load_angle_deg=load_deg)
+    v_pre, i_pre = steady_phasors(s, fraction, None)
+    v_f, i_f = steady_phasors(s, fraction, ftype, r_fault_ohm)
+    assert classify_fault(i_pre, i_f, v_pre, v_f).type == ftype
