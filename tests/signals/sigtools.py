@@ -10,7 +10,7 @@ import numpy as np
 
 
 def tve(estimate, reference):
-    """Total vector error, IEEE C37.118.1-2011 clause 4.3, eq. (3).
+    """Total vector error, IEEE C37.118.1-2011 clause 4.3, eq. (3) (numbering from memory).
 
     ``TVE = sqrt(((Xr^ - Xr)^2 + (Xi^ - Xi)^2) / (Xr^2 + Xi^2))``.
     """

@@ -10,7 +10,7 @@ from eventlab.errors import SignalError
 from eventlab.signals.frequency import estimate_frequency, tracked_phasors
 from eventlab.signals.phasors import dft_phasors
 
-# IEEE C37.118.1-2011 Table 3: TVE limit 1 %
+# IEEE C37.118.1-2011 Table 3: TVE limit 1 % (clause and table from memory)
 TVE_LIMIT = 0.01
 
 

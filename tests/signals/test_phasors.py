@@ -20,6 +20,7 @@ from eventlab.signals.phasors import (
 )
 
 # IEEE C37.118.1-2011 clause 5.3 (steady-state compliance), Table 3: TVE limit 1 %
+# (clause and table numbers from memory)
 TVE_LIMIT = 0.01
 RATES = [16, 32, 64, 128, 256]
 
@@ -57,7 +58,8 @@ def test_full_dft_matches_numpy_fft(n):
 @pytest.mark.parametrize("kind", ["full", "cosine"])
 def test_tve_with_harmonics_2_to_13(n, kind):
     # task limit: TVE <= 1 % with 10 % of each harmonic 2..13
-    # (IEEE C37.118.1-2011 Table 3 harmonic test uses one harmonic at a time; all at once is harder)
+    # (IEEE C37.118.1-2011 Table 3 harmonic test uses one harmonic at a time, from memory;
+    # all at once is harder)
     f0 = 50.0
     fs = n * f0
     n_t = 8 * n
