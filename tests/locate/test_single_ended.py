@@ -102,3 +102,22 @@ def test_takagi_needs_prefault_difference():
     end, line, _ = _case(model, 0.5, "AG")
     with pytest.raises(SignalError, match="superimposed"):
         takagi(replace(end, i_pre=end.i_fault), line)
+
+
+@pytest.mark.parametrize("load_deg", [-20.0, 20.0])
+def test_reactance_error_equals_textbook_apparent_impedance(load_deg):
+    # Apparent impedance of a ground loop with fault resistance and remote
+    # infeed: Z_app = V_a / I_comp = m Z1 + R_f I_f / I_comp, so the reactance
+    # method reads d = m L + Im(R_f I_f / I_comp) / x1 (J. L. Blackburn,
+    # T. J. Domin, "Protective Relaying: Principles and Applications", distance
+    # protection chapter, from memory; common practice)
+    from eventlab.locate.loops import compensated_current, residual_compensation, select_loop
+    model = two_source_model(load_angle_deg=load_deg)
+    rf = 12.0
+    res = solve_fault(model, FaultSpec("L1", 0.6, "AG", rf))
+    end, line, _ = _case(model, 0.6, "AG", rf=rf)
+    z1_km = model.line("L1").sections[0].z1_ohm_per_km
+    k0 = residual_compensation(line.z1_ohm, line.z0_ohm)
+    i_comp = compensated_current(end.i_fault, select_loop("AG"), k0)
+    expected = 60.0 + (rf * res.fault.i_abc[0] / i_comp).imag / z1_km.imag
+    assert reactance(end, line).distance_km == pytest.approx(expected, abs=1e-6)

@@ -1,0 +1,71 @@
+"""Location on records from the time-domain simulator, through the signal chain.
+
+Truth: the simulation's own fault position and resistance
+(:mod:`eventlab.network.simulate`, an EMTP-type engine independent of the
+phasor fault solver the model fit uses).
+"""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import pytest
+
+from eventlab.analysis import analyze
+from eventlab.locate import locate_event
+from eventlab.locate.inputs import from_fault_interval
+from eventlab.network.model import load_model
+from eventlab.network.simulate import SimulationSpec, simulate
+from eventlab.records import read_record
+
+ROOT = Path(__file__).resolve().parents[2]
+
+
+def _ends(records):
+    an = analyze(records)
+    return [from_fault_interval(t.timeline.intervals[0], station=records[t.record].station,
+                                frequency_hz=records[t.record].frequency_hz,
+                                record_start=records[t.record].start,
+                                time0_s=float(records[t.record].time[0]),
+                                samples_per_cycle=an.records[t.record].samples_per_cycle)
+            for t in an.terminals]
+
+
+def test_bundled_two_ended_sample():
+    folder = ROOT / "sample_events" / "vm_cr1_bg"
+    truth = json.loads((folder / "truth.json").read_text())
+    records = [read_record(folder / "VELLMOOR.cfg"), read_record(folder / "CARDON_REACH.cfg")]
+    model = load_model(ROOT / "models" / "northmarch_230kv.toml")
+    length = model.line(truth["line"]).length_km
+    for ends, tol_pct in ((_ends(records), 0.5), (_ends(records)[:1], 1.0)):
+        rep = locate_event(model, ends)
+        assert abs(rep.distance_km - truth["distance_km"]) <= tol_pct / 100 * length
+        lo, hi = rep.interval_km
+        assert lo <= truth["distance_km"] <= hi
+        assert rep.best.fault_resistance_ohm == pytest.approx(truth["r_fault_ohm"], abs=0.5)
+        assert rep.structures.nearest is not None
+
+
+@pytest.mark.parametrize("code, fraction, rf", [("CAG", 0.8, 8.0), ("ABC", 0.25, 1.0)])
+def test_simulated_fault_located(code, fraction, rf):
+    model = load_model(ROOT / "models" / "northmarch_230kv.toml")
+    spec = SimulationSpec(line="VM-CR1", fraction=fraction, type=code, r_fault_ohm=rf,
+                          r_ground_ohm=2.0 if code == "CAG" else 0.0, inception_s=0.1,
+                          inception_angle_deg=30.0, clear_after_s=0.08, duration_s=0.25,
+                          samples_per_cycle=64, noise=0.001, seed=5)
+    sim = simulate(model, spec)
+    records = [sim.records[t.id] for t in model.terminals_of_line("VM-CR1")]
+    length = model.line("VM-CR1").length_km
+    ends = _ends(records)
+    two = locate_event(model, ends)
+    one = locate_event(model, ends[:1])
+    d = fraction * length
+    assert abs(two.distance_km - d) <= 0.005 * length
+    assert abs(one.distance_km - d) <= 0.01 * length
+    for rep in (one, two):
+        assert rep.interval_km[0] <= d <= rep.interval_km[1]
+    if code == "CAG":
+        # with 8 ohm under load the simple reactance method is the worse one
+        react = next(m for m in one.methods if m.method == "reactance")
+        assert abs(react.distance_km - d) > abs(one.distance_km - d)
