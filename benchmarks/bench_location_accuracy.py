@@ -174,7 +174,7 @@ def main(argv=None) -> int:
             if not e:
                 continue
             cv = cover.get((label, name))
-            cov = f"{100 * np.mean(cv):.0f} %" if cv else "-"
+            cov = f"{100 * np.mean(cv):.1f} %" if cv else "-"
             print(f"| {name} | {max(e):.2f} | {np.mean(e):.2f} | {cov} |")
     print()
     for (label, name), (err, method, c) in sorted(worst.items()):

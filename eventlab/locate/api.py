@@ -61,6 +61,10 @@ class LocateOptions:
         Measured-versus-computed tolerance [-], [deg].
     run_fit : bool
         Run the model-matched solve.
+    max_fit_residual_scale : float
+        With two ends, a fit whose residual exceeds this many times the
+        stated measurement accuracy is not stood behind (the two-ended answer
+        is given).
     """
 
     fit: FitOptions = field(default_factory=FitOptions)
@@ -70,6 +74,7 @@ class LocateOptions:
     ratio_tolerance: float = 0.10
     angle_tolerance_deg: float = 10.0
     run_fit: bool = True
+    max_fit_residual_scale: float = 5.0
 
 
 @dataclass(frozen=True)
@@ -286,7 +291,14 @@ def locate_event(model: NetworkModel, ends: Sequence[TerminalPhasors], line: str
     # the answer stood behind
     assumptions: list[str] = ["series-impedance (short-line) model of the faulted line for the "
                               "impedance methods; shunt capacitance neglected"]
-    if fit is not None:
+    if fit is not None and two is not None and fit.chi2_scale > opts.max_fit_residual_scale:
+        notes.append(f"model fit residual {fit.chi2_scale:.1f} times the measurement accuracy "
+                     f"(more than {opts.max_fit_residual_scale:g}): the model does not match "
+                     f"the records; the two-ended answer is given instead")
+        fit_ok = False
+    else:
+        fit_ok = fit is not None
+    if fit_ok:
         best = methods[-1]
         interval = fit.interval_km
         parts = fit.sigma_parts_km

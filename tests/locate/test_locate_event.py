@@ -111,3 +111,29 @@ def test_comparison_flags_reversed_ct():
     rows = comparison_rows("VM-L1", dataclasses.replace(a, i_fault=-a.i_fault), v, i)
     words = verdicts(rows, "AG")
     assert any("polarity" in w for w in words)
+
+
+def test_wrong_remote_source_in_model_is_reported():
+    truth = two_source_model(load_angle_deg=9.0)
+    # the model file's remote source is 40 % too strong (impedance too low)
+    written = two_source_model(load_angle_deg=9.0, remote_z_scale=1 / 1.4)
+    a, b = _ends(truth, 0.35, "AG", 5.0)
+    rep = locate_event(written, [a, b])
+    assert rep.distance_km == pytest.approx(35.0, abs=0.05)
+    assert rep.fit.remote_z_scale == pytest.approx(1.4, rel=0.02)
+    words = " ".join(rep.comparison.verdicts)
+    assert "remote source impedance" in words and "source strength" in words
+
+
+def test_unsynchronised_bolted_three_phase_takes_angle_from_prefault():
+    # a bolted three-phase fault leaves no fault-point voltage to carry the
+    # clock angle; the pre-fault through current (I_L = -I_R) gives it
+    model = two_source_model(load_angle_deg=15.0)
+    a, b = _ends(model, 0.12, "ABC", 0.0)
+    b_off = dataclasses.replace(b.rotated(2.0),
+                                record_start=datetime(2025, 3, 14, 2, 17, 5, 170000))
+    rep = locate_event(model, [a, b_off])
+    assert not rep.sync.synchronised
+    assert rep.distance_km == pytest.approx(12.0, abs=0.01)
+    unsync = next(m for m in rep.methods if m.method == "two_ended_unsync")
+    assert unsync.extra["sync_angle_deg"] == pytest.approx(-114.59155902616465, abs=0.01)
