@@ -19,7 +19,10 @@ from typing import Any
 import numpy as np
 
 from eventlab import __version__
-from eventlab.errors import ChannelMapError, SignalError
+from eventlab.errors import ChannelMapError, ModelError, SignalError
+from eventlab.locate.api import LocateOptions, LocationReport, locate_event
+from eventlab.locate.compare import ComparisonRow
+from eventlab.locate.inputs import from_fault_interval
 from eventlab.records.model import Record
 from eventlab.records.roles import TerminalChannels, map_terminals
 from eventlab.signals.classify import Classification
@@ -57,7 +60,9 @@ class AnalysisOptions:
     ``track_frequency``: re-estimate phasors with tracking when the pre-fault
     frequency is off nominal by more than 0.05 Hz; ``channel_maps``: per
     record (by index) a role -> channel-name map for
-    :func:`~eventlab.records.roles.map_terminals`.
+    :func:`~eventlab.records.roles.map_terminals`; ``locate``: settings of
+    the location step (:class:`~eventlab.locate.api.LocateOptions`), used when
+    a network model is given.
     """
 
     filter: FilterKind = "full"
@@ -65,6 +70,7 @@ class AnalysisOptions:
     tau_s: float | None = None
     track_frequency: bool = True
     channel_maps: Mapping[int, Mapping[str, str]] = field(default_factory=dict)
+    locate: LocateOptions = field(default_factory=LocateOptions)
 
     def __post_init__(self) -> None:
         check_filter_kind(self.filter)
@@ -134,8 +140,8 @@ class Analysis:
     terminals: tuple[TerminalAnalysis, ...]
     primary: int | None                     # index into terminals of the headline terminal
     warnings: tuple[str, ...] = ()
-    location: Any = None                    # filled by the model-based steps
-    comparison: tuple = ()
+    location: LocationReport | None = None  # with a network model: the located fault
+    comparison: tuple[ComparisonRow, ...] = ()  # measured vs computed, per terminal/quantity
 
     @property
     def fault_type(self) -> str:
@@ -156,9 +162,9 @@ class Analysis:
             "records": [r.to_dict() for r in self.records],
             "terminals": [_terminal_dict(t, self.records[t.record].nominal_frequency_hz)
                           for t in self.terminals],
-            "location": self.location.to_dict() if hasattr(self.location, "to_dict")
-            else self.location,
-            "comparison": [c.to_dict() if hasattr(c, "to_dict") else c for c in self.comparison],
+            "location": (None if self.location is None
+                         else self.location.to_dict()["location"]),
+            "comparison": [c.to_dict() for c in self.comparison],
             "warnings": list(self.warnings),
         }
 
@@ -521,8 +527,11 @@ def analyze(records: Sequence[Record] | Record, model=None, line: str | None = N
     infos = []
     terms: list[TerminalAnalysis] = []
     warnings: list[str] = []
+    model_terms: dict[int, Any] = {}   # record index -> model [[terminal]] it was mapped with
+    spc: dict[int, int] = {}           # record index -> samples per cycle used
     for k, rec in enumerate(records):
         fs, n, resampled = _rate(rec)
+        spc[k] = n
         if resampled:
             warnings.append(f"record {k}: {fs:g} Hz is not a whole number of samples per "
                             f"{rec.frequency_hz:g} Hz cycle; resampled to {n} per cycle "
@@ -542,6 +551,8 @@ def analyze(records: Sequence[Record] | Record, model=None, line: str | None = N
                 found = tuple(_reversed_currents(t) for t in found)
                 warnings.append(f"record {k}: terminal {mt.id} has ct_polarity = reversed in "
                                 f"the model: currents negated (positive from bus into line)")
+        if mt is not None and found is not None:
+            model_terms[k] = mt
         if found is None:
             found = map_terminals(rec, cmap)
         f_first, tracked_any = None, False
@@ -564,10 +575,48 @@ def analyze(records: Sequence[Record] | Record, model=None, line: str | None = N
             n_analog=len(rec.analog), n_status=len(rec.status), values=rec.values))
     primary = next((j for j, t in enumerate(terms) if t.fault_type != "none"),
                    0 if terms else None)
+    location = None
     if model is not None:
-        warnings.append("a network model was given: location and comparison are not part of "
-                        "this version of the signal chain"
-                        + (f"; offset time constant {1e3 * tau_from_model:.1f} ms from the "
-                           f"line's X/R" if tau_from_model is not None else ""))
+        if tau_from_model is not None:
+            warnings.append(f"offset time constant {1e3 * tau_from_model:.1f} ms from the "
+                            f"line's X/R")
+        location = _locate(records, terms, model, line, model_terms, spc, opts, warnings)
+    comparison = ()
+    if location is not None and location.comparison is not None:
+        comparison = tuple(location.comparison.rows)
     return Analysis(records=tuple(infos), terminals=tuple(terms), primary=primary,
-                    warnings=tuple(warnings))
+                    warnings=tuple(warnings), location=location, comparison=comparison)
+
+
+def _locate(records: Sequence[Record], terms: Sequence[TerminalAnalysis], model,
+            line: str | None, model_terms: Mapping[int, Any], spc: Mapping[int, int],
+            opts: AnalysisOptions, warnings: list[str]):
+    """Fault location from the first fault interval of each record's faulted terminal.
+
+    One end per record (the first terminal of the record that holds a fault),
+    in record order: distances are from the first record's terminal.  Returns
+    None, with a warning saying why, when there is nothing to locate.
+    """
+    ends = []
+    for k, rec in enumerate(records):
+        ta = next((t for t in terms if t.record == k and t.timeline.intervals), None)
+        if ta is None:
+            continue
+        iv = ta.timeline.intervals[0]
+        mt = model_terms.get(k)
+        ends.append(from_fault_interval(
+            iv, station=rec.station, frequency_hz=rec.frequency_hz,
+            terminal_id=mt.id if mt is not None else None, record_start=rec.start,
+            time0_s=0.0, samples_per_cycle=spc.get(k)))
+    if not ends:
+        warnings.append("location: no fault in the records, nothing to locate")
+        return None
+    if len(ends) > 2:
+        warnings.append(f"location: {len(ends)} faulted records; the first two are used")
+        ends = ends[:2]
+    try:
+        return locate_event(model, ends, line=line, options=opts.locate)
+    except (ModelError, SignalError) as exc:
+        warnings.append(f"location: not made ({exc})")
+        return None
+

@@ -235,7 +235,13 @@ def test_offset_time_constant_from_the_model_line():
     a = analyze(record_of(e), model=model, line=ln.id)
     assert a.terminals[0].timeline.intervals[0].tau_s == pytest.approx(want)
     assert a.fault_type == "AG"
-    assert a.to_dict()["location"] is None
+    # with a model, the location step runs (the waveform's network is not the
+    # model's, so only the contract keys are checked here; accuracy is tested
+    # in tests/locate and in test_quickstart_location below)
+    loc = a.to_dict()["location"]
+    for key in ("distance_km", "fraction", "fault_resistance_ohm", "interval_km", "method",
+                "structures", "methods", "caution"):
+        assert key in loc
 
 
 def test_model_terminal_gives_channel_map_and_polarity():
@@ -262,3 +268,36 @@ def test_model_terminal_gives_channel_map_and_polarity():
     assert t.prefault["VA"] == pytest.approx(plain.prefault["VA"], rel=1e-9)
     assert t.fault_type == plain.fault_type
     assert any("reversed" in w for w in a.warnings)
+
+
+def test_quickstart_location_against_truth():
+    # The bundled two-ended event (time-domain simulation, truth.json written by
+    # the simulator from its own inputs): the located distance from the first
+    # record's terminal is within 0.5 % of the line length of the simulated one,
+    # and the truth lies inside the reported interval.
+    import json
+
+    from eventlab.network.model import load_model
+    from eventlab.records import read_record
+
+    root = Path(__file__).parents[1]
+    ev = root / "sample_events" / "vm_cr1_bg"
+    truth = json.loads((ev / "truth.json").read_text())
+    model = load_model(root / "models" / "northmarch_230kv.toml")
+    recs = [read_record(ev / "VELLMOOR.cfg"), read_record(ev / "CARDON_REACH.cfg")]
+    doc = analyze(recs, model=model).to_dict()
+    loc = doc["location"]
+    length = model.line(truth["line"]).length_km
+    want = truth["distance_from_km"][loc["reference_terminal"]]
+    assert loc["reference_terminal"].startswith("VELLMOOR")
+    assert abs(loc["distance_km"] - want) <= 0.005 * length
+    lo, hi = loc["interval_km"]
+    assert lo <= want <= hi
+    assert loc["method"] in ("model_fit", "two_ended_sync", "two_ended_unsync")
+    assert abs(loc["fault_resistance_ohm"] - truth["r_fault_ohm"]) <= 1.0
+    # measured-versus-computed table: every measured terminal, every phase
+    terms = {c["terminal"] for c in doc["comparison"]}
+    assert len(terms) == 2
+    for c in doc["comparison"]:
+        assert set(c) >= {"terminal", "quantity", "measured", "computed", "ratio",
+                          "angle_diff_deg"}

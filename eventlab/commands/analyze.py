@@ -5,7 +5,9 @@ Example::
     eventlab analyze sample_events/vm_cr1_bg/VELLMOOR.cfg --json out.json
 
 prints the timeline, fault type, currents and voltages per phase (primary
-units) and sequence quantities of every line terminal in the record(s);
+units) and sequence quantities of every line terminal in the record(s); with
+``--model FILE`` it also locates the fault on the model's line (one or two
+ends) and sets the measured phasors against those the model computes;
 ``--json FILE`` (``-`` for standard output) writes the Analysis JSON
 described in the README.
 """
@@ -21,7 +23,8 @@ from eventlab.analysis import Analysis, TerminalAnalysis, analyze
 from eventlab.records import read_record
 from eventlab.units import polar_deg
 
-HELP = "analyse event records: timeline, fault type, phasors (no network model needed)"
+HELP = ("analyse event records: timeline, fault type, phasors; with --model also the "
+        "fault location and the measured-versus-computed match")
 
 
 def add_arguments(parser: argparse.ArgumentParser) -> None:
@@ -143,6 +146,48 @@ def _terminal_text(t: TerminalAnalysis, f0: float) -> list[str]:
     return out
 
 
+def _location_text(doc: dict) -> list[str]:
+    """Location and measured-versus-computed lines from ``LocationReport.to_dict()``."""
+    loc, comp = doc["location"], doc["comparison"]
+    st = loc.get("structures") or {}
+    lo, hi = loc["interval_km"]
+    out = ["", f"Fault location on line {loc['line']} ({loc['length_km']:.1f} km), "
+           f"method {loc['method']}:"]
+    rf = loc.get("fault_resistance_ohm")
+    out.append(f"  {loc['distance_km']:.2f} km ({loc['distance_mi']:.2f} mi) from "
+               f"{loc['reference_terminal']}, fraction {loc['fraction']:.4f}"
+               + ("" if rf is None else f", fault resistance {rf:.2f} ohm"))
+    out.append(f"  interval {lo:.2f} .. {hi:.2f} km")
+    for term, km in (st.get("distance_from_km") or {}).items():
+        mi = (st.get("distance_from_mi") or {}).get(term)
+        out.append(f"  from {term}: {km:.2f} km" + ("" if mi is None else f" ({mi:.2f} mi)"))
+    if st.get("nearest"):
+        out.append(f"  nearest structure {st['nearest']}; structures {st.get('first')} .. "
+                   f"{st.get('last')} cover the interval ({st.get('count')} structures)")
+    out.append("  Methods:")
+    for m in loc["methods"]:
+        r = m.get("fault_resistance_ohm")
+        out.append(f"    {m['method']:<18} {m['distance_km']:8.2f} km"
+                   + ("" if r is None else f"   Rf {r:7.2f} ohm"))
+    if comp:
+        out.append("  Measured vs computed (fitted fault):")
+        out.append("    terminal              qty    measured            computed        "
+                   "ratio   angle diff")
+        for c in comp:
+            (mm, md), (cm, cd) = c["measured"], c["computed"]
+            unit_scale = 1e3 if c["quantity"].startswith("V") else 1.0
+            u = "kV" if unit_scale == 1e3 else "A "
+            out.append(f"    {c['terminal']:<21.21} {c['quantity']:<4} {mm / unit_scale:10.2f}"
+                       f" {u} {md:+7.1f}d {cm / unit_scale:10.2f} {u} {cd:+7.1f}d "
+                       f"{c['ratio']:6.3f} {c['angle_diff_deg']:+7.2f}d")
+    for v in loc.get("verdict", []):
+        out.append(f"  Verdict: {v}")
+    for n in loc.get("notes", []):
+        out.append(f"  note: {n}")
+    out.append(f"  CAUTION: {loc['caution']}")
+    return out
+
+
 def format_report(result: Analysis) -> str:
     """The human-readable summary printed by ``eventlab analyze``."""
     lines = []
@@ -162,6 +207,8 @@ def format_report(result: Analysis) -> str:
         lines.append("")
     head = "none" if result.primary is None else result.fault_type
     lines.append(f"Event fault type: {head}")
+    if result.location is not None:
+        lines.extend(_location_text(result.location.to_dict()))
     for w in result.warnings:
         lines.append(f"warning: {w}")
     return "\n".join(lines) + "\n"

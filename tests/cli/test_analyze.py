@@ -115,3 +115,27 @@ def test_errors_are_one_line_exit_2(tmp_path, capsys):
     assert main(["analyze", str(cfg)]) == 2
     err = capsys.readouterr().err
     assert err.count("\n") == 1 and "analyze: error" in err
+
+
+def test_location_keys_with_model_on_sample_event(capsys, tmp_path):
+    # JSON contract of the location step (issue: fault location), on the bundled
+    # two-ended sample; truth.json is the simulator's record of its own inputs.
+    root = Path(__file__).parents[2]
+    ev = root / "sample_events" / "vm_cr1_bg"
+    out = tmp_path / "a.json"
+    assert main(["analyze", str(ev / "VELLMOOR.cfg"), str(ev / "CARDON_REACH.cfg"),
+                 "--model", str(root / "models" / "northmarch_230kv.toml"),
+                 "--json", str(out)]) == 0
+    text = capsys.readouterr().out
+    assert "CAUTION" in text and "energized" in text
+    d = json.loads(out.read_text())
+    loc = d["location"]
+    for key in ("distance_km", "fraction", "fault_resistance_ohm", "interval_km", "method",
+                "structures", "methods"):
+        assert key in loc, key
+    assert len(loc["interval_km"]) == 2
+    assert all({"method", "distance_km"} <= set(m) for m in loc["methods"])
+    truth = json.loads((ev / "truth.json").read_text())
+    assert abs(loc["distance_km"] - truth["distance_from_km"]["VELLMOOR-VM-CR1"]) < 1.0
+    assert d["comparison"] and all(
+        len(c["measured"]) == 2 and len(c["computed"]) == 2 for c in d["comparison"])
