@@ -114,6 +114,7 @@ def main(argv=None) -> int:
     errs: dict[tuple[str, str], list[float]] = {}
     cover: dict[tuple[str, str], list[bool]] = {}
     worst: dict[tuple[str, str], tuple] = {}
+    width: dict[tuple[str, str], list[float]] = {}
     t_locate = t_react = 0.0
     n_calls = 0
     cases = list(grid(args.quick))
@@ -147,6 +148,7 @@ def main(argv=None) -> int:
                     worst[key] = (err, rep.best.method, c)
                 lo, hi = rep.interval_km
                 cover.setdefault(key, []).append(lo - 1e-9 <= d_true <= hi + 1e-9)
+                width.setdefault(key, []).append(100 * (hi - lo) / length)
                 for m in rep.methods:
                     if kind == "two" and m.method not in ("two_ended_sync", "two_ended_unsync",
                                                           "model_fit"):
@@ -164,8 +166,9 @@ def main(argv=None) -> int:
         print(f"model: {label}" + (" (remote source 30 % weaker, local 15 % stronger, line Z0 "
                                    "+5 %)" if label == "perturbed" else ""))
         print()
-        print("| method | max error [% of line] | mean error [% of line] | truth in interval |")
-        print("| --- | --- | --- | --- |")
+        print("| method | max error [% of line] | 95th percentile [%] | mean error [%] | "
+              "truth in interval | mean interval width [%] |")
+        print("| --- | --- | --- | --- | --- | --- |")
         order = ["single-ended answer", "two-ended answer", "reactance", "takagi",
                  "modified_takagi", "eriksson", "model_fit", "two_ended_sync",
                  "two_ended_unsync", "model_fit (2 ends)"]
@@ -175,7 +178,10 @@ def main(argv=None) -> int:
                 continue
             cv = cover.get((label, name))
             cov = f"{100 * np.mean(cv):.1f} %" if cv else "-"
-            print(f"| {name} | {max(e):.2f} | {np.mean(e):.2f} | {cov} |")
+            wd = width.get((label, name))
+            wdt = f"{np.mean(wd):.1f}" if wd else "-"
+            print(f"| {name} | {max(e):.2f} | {np.percentile(e, 95):.2f} | {np.mean(e):.2f} | "
+                  f"{cov} | {wdt} |")
     print()
     for (label, name), (err, method, c) in sorted(worst.items()):
         print(f"worst {name}, {label} model: {err:.2f} % ({method}) in case {c}")

@@ -82,6 +82,9 @@ class FitOptions:
     noise_fraction : float
         Random error of each phasor [fraction of its magnitude] (DFT leakage,
         quantisation), the weight of the residual.
+    floor_fraction : float
+        Further random error of each phasor [fraction of the largest phasor of
+        its kind at the same end].
     z0_tolerance, z1_tolerance : float
         One-sigma tolerance of the line's Z0 and Z1 [fraction].
     coverage_factor : float
@@ -96,6 +99,7 @@ class FitOptions:
     ct_class: str = "5P"
     vt_class: str = "0.5"
     noise_fraction: float = 0.005
+    floor_fraction: float = 0.005
     z0_tolerance: float = 0.05
     z1_tolerance: float = 0.02
     coverage_factor: float = 2.0
@@ -259,13 +263,20 @@ def _measured(ends: Sequence[TerminalPhasors]) -> np.ndarray:
     return np.concatenate([np.concatenate([e.v_superimposed, e.i_superimposed]) for e in ends])
 
 
-def _sigmas(ends: Sequence[TerminalPhasors], noise: float) -> np.ndarray:
+def _sigmas(ends: Sequence[TerminalPhasors], noise: float, floor: float) -> np.ndarray:
+    """Standard deviation of each fault-window phasor [V], [A].
+
+    ``noise`` of the phasor's own magnitude plus ``floor`` of the largest
+    phasor of its kind at that end: the leakage of the fault transient into
+    a one-cycle window is of the size of the largest signal, so the small
+    currents of the sound phases are not trusted to a fraction of themselves.
+    """
     out = []
     for e in ends:
         v_scale = max(np.max(np.abs(e.v_pre)), np.max(np.abs(e.v_fault)))
         i_scale = max(np.max(np.abs(e.i_fault)), np.max(np.abs(e.i_pre)), 1e-6)
-        sv = noise * np.maximum(np.abs(e.v_fault), 0.05 * v_scale)
-        si = noise * np.maximum(np.abs(e.i_fault), 0.05 * i_scale)
+        sv = noise * np.abs(e.v_fault) + floor * v_scale
+        si = noise * np.abs(e.i_fault) + floor * i_scale
         out.append(np.concatenate([sv, si]))
     return np.concatenate(out)
 
@@ -331,7 +342,7 @@ def fit_fault(model: NetworkModel, line_id: str, ends: Sequence[TerminalPhasors]
         names.append("ln_kz0")
     prob = _Problem(model, line_id, ref, ends, terminals, code, opts, names, groups)
     prob.meas = _measured(ends)
-    prob.sigma = _sigmas(ends, opts.noise_fraction)
+    prob.sigma = _sigmas(ends, opts.noise_fraction, opts.floor_fraction)
 
     x0 = [float(np.clip(start_fraction, 0.0, 1.0)), float(np.clip(start_r_ohm, 0.0,
                                                                    opts.r_max_ohm))]

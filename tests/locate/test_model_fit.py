@@ -45,8 +45,10 @@ def test_single_end_fit_interval_holds_truth():
     fit = fit_fault(model, "L1", [end], model.terminals[:1], start_fraction=0.6)
     assert fit.interval_km[0] <= 30.0 <= fit.interval_km[1]
     assert abs(fit.distance_km - 30.0) < 1.0
-    # the Z0 tolerance is the main term of a single-ended ground-fault interval
-    assert fit.sigma_parts_km["line Z0"] == max(fit.sigma_parts_km.values())
+    # of the quantities held fixed, the Z0 tolerance weighs most in a
+    # single-ended ground-fault interval
+    held = {k: v for k, v in fit.sigma_parts_km.items() if k != "fit"}
+    assert held["line Z0"] == max(held.values())
 
 
 def test_computed_phasors_match_measured_for_exact_model():
