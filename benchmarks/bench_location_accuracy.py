@@ -155,8 +155,10 @@ def main(argv=None) -> int:
                         continue
                     name = m.method + (" (2 ends)" if kind == "two" and m.method == "model_fit"
                                        else "")
-                    errs.setdefault((label, name), []).append(
-                        100 * abs(m.distance_km - d_true) / length)
+                    err = 100 * abs(m.distance_km - d_true) / length
+                    errs.setdefault((label, name), []).append(err)
+                    if err > worst.get((label, name), (-1.0,))[0]:
+                        worst[(label, name)] = (err, m.method, c)
     elapsed = time.perf_counter() - t_start
     mode = "quick" if args.quick else "full"
     print(f"# Location accuracy, {len(cases)} simulated cases ({mode} grid), line {LINE} "

@@ -299,8 +299,19 @@ def two_ended_unsynchronised(local: TerminalPhasors, remote: TerminalPhasors,
     if roots:
         inside = [r for r in roots if 0.0 <= r <= length] or [
             min(roots, key=lambda r: min(abs(r), abs(r - length)))]
-        d = (_pick_root(inside, local, remote, line, seq, delta_pre) if len(inside) > 1
-             else inside[0])
+        if len(inside) > 1 and delta_pre is not None:
+            # the pre-fault through current gives the rotation roughly
+            # (line charging aside): keep the root nearest to the distance it
+            # gives, unless the fault impedance tells them apart clearly
+            d_pre = two_ended_synchronised(local, remote.rotated(delta_pre), line,
+                                           aligned=True).distance_km
+            d_r = _pick_root(inside, local, remote, line, seq, delta_pre)
+            d_n = min(inside, key=lambda r: abs(r - d_pre))
+            d = d_r if abs(d_r - d_pre) <= 0.05 * length else d_n
+        elif len(inside) > 1:
+            d = _pick_root(inside, local, remote, line, seq, delta_pre)
+        else:
+            d = inside[0]
     else:
         # a double root (both sides vanish at the fault: bolted three-phase fault)
         grid = np.linspace(0.0, length, 201)
