@@ -172,9 +172,10 @@ def locate_event(model: NetworkModel, ends: Sequence[TerminalPhasors], line: str
     -------
     LocationReport
         The answer eventlab stands behind (the model-matched fit on every
-        given end where it converged, else the two-ended method where both
-        ends are given, else the modified Takagi method), every method's estimate, the interval,
-        structures, the measured-versus-computed table and the caution.
+        given end where it converged and, with two ends, matches them; else
+        the two-ended method where both ends are given; else the modified
+        Takagi method), every method's estimate, the interval, structures,
+        the measured-versus-computed table and the caution.
 
     Raises
     ------
@@ -289,8 +290,10 @@ def locate_event(model: NetworkModel, ends: Sequence[TerminalPhasors], line: str
                 notes.append(f"comparison: not made ({exc})")
 
     # the answer stood behind
-    assumptions: list[str] = ["series-impedance (short-line) model of the faulted line for the "
-                              "impedance methods; shunt capacitance neglected"]
+    assumptions: list[str] = [
+        "single-ended impedance methods: series-impedance line (shunt capacitance "
+        "neglected); two-ended methods and the model fit: the model's line with its "
+        "capacitance (nominal pi per piece)"]
     if fit is not None and two is not None and fit.chi2_scale > opts.max_fit_residual_scale:
         notes.append(f"model fit residual {fit.chi2_scale:.1f} times the measurement accuracy "
                      f"(more than {opts.max_fit_residual_scale:g}): the model does not match "

@@ -418,8 +418,8 @@ def fit_fault(model: NetworkModel, line_id: str, ends: Sequence[TerminalPhasors]
     a, _ = prob.states(bases, ends)
     a = tuple(complex(v) for v in a) + (0j,) * (2 - len(a))
     assumptions = (
-        "short-line model of the faulted line as in the network model; loads are the "
-        "model's linear elements",
+        "the faulted line as the network model has it (series impedance, capacitance as "
+        "nominal pi); loads are the model's linear elements",
         "source EMFs calibrated to the measured pre-fault positive-sequence voltage and "
         "current; the fault is fitted on superimposed (fault minus pre-fault) phasors",
         f"source impedance scales fitted with a log-normal prior (sigma {opts.source_prior})"
