@@ -115,18 +115,27 @@ def decode_text(raw: bytes, path: str | None, what: str = "configuration") -> st
     characters other than tab, CR, LF and the DOS end-of-file mark 0x1A mean
     binary data where text belongs and raise :class:`RecordFormatError`.
     """
-    if raw.startswith(b"\xef\xbb\xbf"):
-        raw = raw[3:]
-    try:
-        text = raw.decode("utf-8")
-    except UnicodeDecodeError:
-        text = raw.decode("latin-1")
+    text = decode_free_text(raw)
     m = _CONTROL.search(text)
     if m is not None:
         line = text.count("\n", 0, m.start()) + 1
         raise RecordFormatError(
             f"binary data (byte 0x{ord(m.group()):02x}) where {what} text was expected",
             path=path, line=line)
+    return text
+
+
+def decode_free_text(raw: bytes) -> str:
+    """Decode free text (.hdr, .inf, or a .cfg before its checks): UTF-8, else Latin-1.
+
+    A UTF-8 byte-order mark and DOS end-of-file marks (0x1A) are dropped.
+    """
+    if raw.startswith(b"\xef\xbb\xbf"):
+        raw = raw[3:]
+    try:
+        text = raw.decode("utf-8")
+    except UnicodeDecodeError:
+        text = raw.decode("latin-1")
     return text.replace("\x1a", "")
 
 

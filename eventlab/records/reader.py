@@ -33,7 +33,7 @@ import numpy as np
 
 from eventlab.errors import RecordFormatError
 from eventlab.records import dat as _dat
-from eventlab.records.cfg import CfgInfo, decode_text, parse_cfg
+from eventlab.records.cfg import CfgInfo, decode_free_text, decode_text, parse_cfg
 from eventlab.records.model import AnalogChannel, RateSegment, Record, StatusChannel
 
 _CFF_HEADER = re.compile(
@@ -109,15 +109,7 @@ def record_from_bytes(cfg_bytes: bytes, dat_bytes: bytes, *, values: str = "prim
 
 
 def _text_or_none(raw: bytes | None, path: str | None) -> str | None:
-    if raw is None:
-        return None
-    if raw.startswith(b"\xef\xbb\xbf"):
-        raw = raw[3:]
-    try:
-        text = raw.decode("utf-8")
-    except UnicodeDecodeError:
-        text = raw.decode("latin-1")
-    return text.replace("\x1a", "")
+    return None if raw is None else decode_free_text(raw)
 
 
 def record_from_parts(info: CfgInfo, data: _dat.DatData, *, values: str = "primary",
