@@ -15,11 +15,11 @@ from dataclasses import dataclass
 import numpy as np
 
 from eventlab.errors import ModelError
-from eventlab.network.model import Line, LineSection, Structure
+from eventlab.network.model import Line, LineSection, SectionTotals, Structure
 
 
 @dataclass(frozen=True)
-class LineData:
+class LineData(SectionTotals):
     """A line seen from one of its ends.
 
     ``sections`` (:class:`eventlab.network.model.LineSection`) run from
@@ -41,21 +41,6 @@ class LineData:
             if not s.length_km > 0:
                 raise ModelError(f"line {self.line_id} section {k}: length_km must be > 0, "
                                  f"got {s.length_km}")
-
-    @property
-    def length_km(self) -> float:
-        """Route length [km]."""
-        return float(sum(s.length_km for s in self.sections))
-
-    @property
-    def z1_ohm(self) -> complex:
-        """Total positive-sequence impedance [ohm]."""
-        return complex(sum(s.z1_ohm_per_km * s.length_km for s in self.sections))
-
-    @property
-    def z0_ohm(self) -> complex:
-        """Total zero-sequence impedance [ohm]."""
-        return complex(sum(s.z0_ohm_per_km * s.length_km for s in self.sections))
 
     @property
     def is_homogeneous(self) -> bool:

@@ -137,16 +137,10 @@ class Mutual:
     z0m_ohm_per_km: complex
 
 
-@dataclass(frozen=True)
-class Line:
-    """A line between two buses, made of one or more sections (from ``from_bus`` on)."""
+class SectionTotals:
+    """Route totals of anything with ``sections`` (a tuple of :class:`LineSection`)."""
 
-    id: str
-    from_bus: str
-    to_bus: str
     sections: tuple[LineSection, ...]
-    structures: tuple[Structure, ...] = ()
-    mutual: Mutual | None = None
 
     @property
     def length_km(self) -> float:
@@ -162,6 +156,18 @@ class Line:
     def z0_ohm(self) -> complex:
         """Total zero-sequence series impedance [ohm]."""
         return complex(sum(s.z0_ohm_per_km * s.length_km for s in self.sections))
+
+
+@dataclass(frozen=True)
+class Line(SectionTotals):
+    """A line between two buses, made of one or more sections (from ``from_bus`` on)."""
+
+    id: str
+    from_bus: str
+    to_bus: str
+    sections: tuple[LineSection, ...]
+    structures: tuple[Structure, ...] = ()
+    mutual: Mutual | None = None
 
     @property
     def homogeneous(self) -> bool:
