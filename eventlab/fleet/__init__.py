@@ -1,1 +1,0 @@
-"""fleet layer."""
