@@ -33,6 +33,7 @@ _UNITS = {
     "a": ("I", 1.0),
 }
 _PHASES = {"A": "A", "B": "B", "C": "C", "N": "N", "G": "N", "L1": "A", "L2": "B", "L3": "C",
+           "1": "A", "2": "B", "3": "C",
            "AN": "A", "BN": "B", "CN": "C", "AG": "A", "BG": "B", "CG": "C", "R": "N",
            "0": "N", "3I0": "N", "3V0": "N", "E": "N"}
 _ANALOG_TOKEN = re.compile(
@@ -143,8 +144,11 @@ def classify_analog(ch: AnalogChannel) -> tuple[str, str]:
     if role.startswith("I") and _PARALLEL_WORD.search(ch.name.upper()):
         role = "IP"
     group = ch.circuit.strip()
-    if not group:
-        used = list(matched or ())
+    if not group and matched is not None:
+        # without a ccbm, what the name holds besides its role is the circuit
+        # ("L01 VA" -> "L01"); a name that gave no role ("CH4", mapped from
+        # its ph field and unit) says nothing about the circuit
+        used = list(matched)
         rest = []
         for t in toks:
             if t in used:

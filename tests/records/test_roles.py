@@ -124,3 +124,22 @@ def test_names_without_ph_field():
     (t,) = map_terminals(make_record("X", 1000.0, analog))
     assert [c.name for c in t.voltages] == ["VAN", "VBN", "VCN"]
     assert [c.name for c in t.currents] == ["I_L1", "I_L2", "I_L3"]
+
+
+@pytest.mark.parametrize("chans", [
+    # generic names, roles from the C37.111 ph field and the unit (clause 6.4:
+    # ph is the channel's phase identification)
+    [("CH1", "A", "V"), ("CH2", "B", "V"), ("CH3", "C", "V"),
+     ("CH4", "A", "A"), ("CH5", "B", "A"), ("CH6", "C", "A")],
+    # phases written 1 2 3 in ph (common practice, no source)
+    [("V1", "1", "kV"), ("V2", "2", "kV"), ("V3", "3", "kV"),
+     ("I1", "1", "A"), ("I2", "2", "A"), ("I3", "3", "A")],
+])
+def test_roles_from_ph_field_when_names_say_nothing(chans):
+    n = 8
+    analog = [(nm, ph, u, np.arange(n, dtype=float)) for nm, ph, u in chans]
+    rec = make_record("S", 1000.0, analog)
+    (t,) = map_terminals(rec)
+    assert [c.name for c in t.voltages] == [c[0] for c in chans[:3]]
+    assert [c.name for c in t.currents] == [c[0] for c in chans[3:]]
+    assert t.label == ""
