@@ -235,6 +235,8 @@ def _ascii_table_slow(buf: bytes, info: CfgInfo, path: str | None) -> np.ndarray
     table = np.empty((n_decl, n_cols), dtype=np.float64)
     for r, line in enumerate(lines):
         cells = line.strip().split(b",")
+        if len(cells) == n_cols + 1 and not cells[-1].strip():
+            cells.pop()   # a trailing comma after the last field, as some recorders write
         if len(cells) != n_cols:
             raise RecordFormatError(f"expected {n_cols} comma-separated fields "
                                     f"(n, timestamp, {na} analog, {ns} status), found "

@@ -301,3 +301,24 @@ def test_ascii_floating_point_values_and_leap_second(tmp_path):
     text = MULTI_CFG.replace("02/12/2026,01:02:03.123456", "31/12/2016,23:59:60.500000")
     rec = read_record(write_case(tmp_path, "leap", text, dat))
     assert rec.start == datetime(2017, 1, 1, 0, 0, 0, 500000)
+
+
+def test_ascii_trailing_comma_after_last_field(tmp_path):
+    # clause 7: n,timestamp,A1..Ak,D1..Dm; some recorders end each row with a comma
+    # (common practice, no source): one empty cell past the last field is not data
+    cfg = write_case(tmp_path, "tc", """VELLMOOR,R5,1999
+2,1A,1D
+1,IA,A,CR1,A,0.5,0,0,-32767,32767,1200,5,P
+1,TRIP,,CR1,0
+60
+1
+1000,3
+01/02/2026,10:20:30.000000
+01/02/2026,10:20:30.000000
+ASCII
+1
+""", "1,0,2,0,\n2,1000,4,1,\n3,2000,6,1,\n")
+    rec = read_record(cfg)
+    # values a*x + b = 0.5 * (2, 4, 6)
+    np.testing.assert_array_equal(rec.analog[0].values, [1.0, 2.0, 3.0])
+    np.testing.assert_array_equal(rec.status[0].values, [0, 1, 1])
