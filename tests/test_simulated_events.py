@@ -1,0 +1,83 @@
+"""End to end on records from the time-domain simulator (an independent computation).
+
+The simulator integrates the network's differential equations (trapezoidal
+rule, eventlab.network.emt) and records what it did in a truth object; the
+signal chain and the locators only see the COMTRADE-like record.  These
+checks cover what the issue on the signal chain asks of inception timing
+(within one sample on clean records, 0.5 ms on noisy ones), the fault type,
+and the clearing time, on the minimal example model: its sources have equal
+EMFs, so the pre-fault currents are only the line's charging currents (a
+no-load line, where relative thresholds have little to go on).
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import pytest
+
+from eventlab.analysis import analyze
+from eventlab.network.model import load_model
+from eventlab.network.simulate import SimulationSpec, simulate
+
+MODEL = Path(__file__).parents[1] / "models" / "example_230kv.toml"
+
+
+@pytest.fixture(scope="module")
+def model():
+    return load_model(MODEL)
+
+
+CASES = [
+    # (type, fraction, Rf [ohm], samples per cycle, inception angle [deg], noise)
+    ("BG", 0.37, 3.0, 32, 30.0, 0.0),
+    ("BG", 0.37, 3.0, 64, 30.0, 0.0),
+    ("AG", 0.10, 0.0, 16, 0.0, 0.0),
+    ("CA", 0.80, 1.0, 128, 90.0, 0.0),
+    ("ABG", 0.50, 2.0, 64, 120.0, 0.0),
+    ("ABC", 0.25, 0.5, 32, 45.0, 0.0),
+    ("BG", 0.37, 3.0, 32, 30.0, 0.005),
+    ("CG", 0.60, 10.0, 64, 90.0, 0.005),
+    ("BC", 0.45, 1.0, 64, 0.0, 0.005),
+]
+
+
+@pytest.mark.parametrize("code,frac,rf,spc,angle,noise", CASES)
+def test_inception_type_and_clearing_on_simulated_record(model, code, frac, rf, spc, angle,
+                                                         noise):
+    spec = SimulationSpec(line="L1", fraction=frac, type=code, r_fault_ohm=rf,
+                          inception_angle_deg=angle, clear_after_s=0.08, duration_s=0.3,
+                          samples_per_cycle=spc, noise=noise, seed=11)
+    sim = simulate(model, spec)
+    (tid, rec), = sim.records.items()
+    truth = sim.truth
+    tl = analyze([rec]).terminals[0].timeline
+    dt = 1.0 / (spc * model.system.frequency_hz)
+    assert tl.fault_type == code
+    # one sample on clean records, 0.5 ms with noise (issue text)
+    tol = dt if noise == 0.0 else max(0.5e-3, dt)
+    assert abs(tl.inception_s - truth.inception_s) <= tol + 1e-9
+    # clearing: the last pole of the faulted phases opens at a current zero; the
+    # timeline sees the pole open within a few samples (common practice, no source)
+    last_open = max(p for p in truth.pole_open_s[tid][0] if p is not None)
+    assert tl.clearing_s is not None
+    assert abs(tl.clearing_s - last_open) <= max(4 * dt, 1.0e-3)
+
+
+@pytest.mark.parametrize("data_format", ["BINARY", "FLOAT32", "ASCII"])
+def test_written_record_gives_the_same_timeline(model, tmp_path, data_format):
+    # through the COMTRADE files (secondary values, quantised by the writer)
+    from eventlab.network.simulate import write_simulation
+    from eventlab.records import read_record
+
+    spec = SimulationSpec(line="L1", fraction=0.37, type="BG", r_fault_ohm=3.0,
+                          inception_angle_deg=30.0, clear_after_s=0.08, duration_s=0.3,
+                          samples_per_cycle=32, seed=11)
+    sim = simulate(model, spec)
+    paths = write_simulation(sim, tmp_path, data_format=data_format,
+                             revision=2013 if data_format == "FLOAT32" else 1999)
+    cfg = next(p for p in paths if p.suffix == ".cfg")
+    tl = analyze([read_record(cfg)]).terminals[0].timeline
+    dt = 1.0 / (32 * model.system.frequency_hz)
+    assert tl.fault_type == "BG"
+    assert abs(tl.inception_s - sim.truth.inception_s) <= dt + 1e-9
