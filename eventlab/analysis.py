@@ -60,7 +60,9 @@ class AnalysisOptions:
     ``track_frequency``: re-estimate phasors with tracking when the pre-fault
     frequency is off nominal by more than 0.05 Hz; ``channel_maps``: per
     record (by index) a role -> channel-name map for
-    :func:`~eventlab.records.roles.map_terminals`; ``locate``: settings of
+    :func:`~eventlab.records.roles.map_terminals`; ``terminals``: per record
+    (by index) the id of its model ``[[terminal]]``, where the station names
+    do not pair them; ``locate``: settings of
     the location step (:class:`~eventlab.locate.api.LocateOptions`), used when
     a network model is given.
     """
@@ -70,12 +72,15 @@ class AnalysisOptions:
     tau_s: float | None = None
     track_frequency: bool = True
     channel_maps: Mapping[int, Mapping[str, str]] = field(default_factory=dict)
+    terminals: Mapping[int, str] = field(default_factory=dict)
     locate: LocateOptions = field(default_factory=LocateOptions)
 
     def __post_init__(self) -> None:
         check_filter_kind(self.filter)
         object.__setattr__(self, "channel_maps", MappingProxyType(
             {int(k): MappingProxyType(dict(v)) for k, v in dict(self.channel_maps).items()}))
+        object.__setattr__(self, "terminals", MappingProxyType(
+            {int(k): str(v) for k, v in dict(self.terminals).items()}))
 
 
 @dataclass(frozen=True)
@@ -438,15 +443,20 @@ def _terminal(record: Record, k_rec: int, term: TerminalChannels, n: int, fs: fl
     return ta, f_est, tracked
 
 
-def model_terminal(model, record: Record, line: str | None = None):
-    """The model's ``[[terminal]]`` for a record: same station (case-insensitive), on ``line``.
+def model_terminal(model, record: Record, line: str | None = None,
+                   terminal_id: str | None = None):
+    """The model's ``[[terminal]]`` for a record.
 
-    None when no terminal or more than one matches (the record's channels are
-    then mapped from their names).
+    ``terminal_id`` given: that terminal (:class:`~eventlab.errors.ModelError`
+    if the model has none of that id).  Otherwise the terminal at the
+    record's station (case-insensitive, spaces and underscores alike), on
+    ``line`` when given; None when no terminal or more than one matches (the
+    record's channels are then mapped from their names).
     """
-    st = record.station.strip().casefold()
-    hits = [t for t in getattr(model, "terminals", ())
-            if t.station.strip().casefold() == st and (line is None or t.line == line)]
+    if terminal_id is not None:
+        return model.terminal(terminal_id)
+    hits = [t for t in model.terminals_at_station(record.station)
+            if line is None or t.line == line]
     return hits[0] if len(hits) == 1 else None
 
 
@@ -537,7 +547,8 @@ def analyze(records: Sequence[Record] | Record, model=None, line: str | None = N
                             f"{rec.frequency_hz:g} Hz cycle; resampled to {n} per cycle "
                             f"({n * rec.frequency_hz:g} Hz) for the phasors and the timeline")
         cmap = opts.channel_maps.get(k)
-        mt = None if (cmap is not None or model is None) else model_terminal(model, rec, line)
+        mt = None if (cmap is not None or model is None) else model_terminal(
+            model, rec, line, opts.terminals.get(k))
         found = None
         if mt is not None:
             try:
@@ -616,6 +627,14 @@ def _locate(records: Sequence[Record], terms: Sequence[TerminalAnalysis], model,
         ends = ends[:2]
     try:
         return locate_event(model, ends, line=line, options=opts.locate)
+    except (ModelError, SignalError) as exc:
+        if len(ends) < 2:
+            warnings.append(f"location: not made ({exc})")
+            return None
+        warnings.append(f"location: the two records could not be used together ({exc}); "
+                        f"located from {ends[0].station} alone")
+    try:
+        return locate_event(model, ends[:1], line=line, options=opts.locate)
     except (ModelError, SignalError) as exc:
         warnings.append(f"location: not made ({exc})")
         return None

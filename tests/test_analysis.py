@@ -301,3 +301,32 @@ def test_quickstart_location_against_truth():
     for c in doc["comparison"]:
         assert set(c) >= {"terminal", "quantity", "measured", "computed", "ratio",
                           "angle_diff_deg"}
+
+
+def test_explicit_terminal_and_remote_without_model_terminal():
+    # Records are paired with model terminals by station name; --terminal (here
+    # AnalysisOptions.terminals) pairs a record whose station name differs, and a
+    # remote record with no terminal in the model leaves a single-ended location.
+    import dataclasses
+    import json
+
+    from eventlab.analysis import AnalysisOptions
+    from eventlab.network.model import load_model
+    from eventlab.records import read_record
+
+    root = Path(__file__).parents[1]
+    ev = root / "sample_events" / "vm_cr1_bg"
+    truth = json.loads((ev / "truth.json").read_text())
+    model = load_model(root / "models" / "northmarch_230kv.toml")
+    local = dataclasses.replace(read_record(ev / "VELLMOOR.cfg"), station="SUBSTATION 7")
+    remote = read_record(ev / "CARDON_REACH.cfg")
+    only_local = dataclasses.replace(model, terminals=tuple(
+        t for t in model.terminals if t.station == "VELLMOOR"))
+    (tid,) = (t.id for t in only_local.terminals)
+    a = analyze([local, remote], model=only_local,
+                options=AnalysisOptions(terminals={0: tid}))
+    loc = a.to_dict()["location"]
+    assert loc["reference_terminal"] == tid
+    assert not any(m["method"].startswith("two_ended") for m in loc["methods"])
+    assert any("alone" in w for w in a.warnings)
+    assert abs(loc["distance_km"] - truth["distance_from_km"][tid]) <= 0.02 * loc["length_km"]

@@ -19,7 +19,8 @@ import json
 import math
 import sys
 
-from eventlab.analysis import Analysis, TerminalAnalysis, analyze
+from eventlab.analysis import Analysis, AnalysisOptions, TerminalAnalysis, analyze
+from eventlab.errors import ModelError
 from eventlab.records import read_record
 from eventlab.units import polar_deg
 
@@ -34,6 +35,9 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--model", metavar="FILE", default=None,
                         help="network model (TOML); used by fault location")
     parser.add_argument("--line", metavar="ID", default=None, help="line id in the model")
+    parser.add_argument("--terminal", metavar="ID", action="append", default=None,
+                        help="model terminal id of RECORD (repeat for REMOTE); default: "
+                             "the terminal at the record's station")
     parser.add_argument("--json", metavar="FILE", default=None,
                         help="write the analysis as JSON to FILE ('-' for standard output)")
 
@@ -46,7 +50,13 @@ def run(args: argparse.Namespace) -> int:
         from eventlab.network.model import load_model
 
         model = load_model(args.model)
-    result = analyze(records, model=model, line=args.line)
+    terms = args.terminal or []
+    if terms and model is None:
+        raise ModelError("--terminal needs --model")
+    if len(terms) > len(records):
+        raise ModelError(f"--terminal given {len(terms)} times for {len(records)} record(s)")
+    options = AnalysisOptions(terminals=dict(enumerate(terms)))
+    result = analyze(records, model=model, line=args.line, options=options)
     doc = result.to_dict()
     text = json.dumps(_clean(doc), indent=2, allow_nan=False)
     if args.json == "-":

@@ -139,3 +139,17 @@ def test_location_keys_with_model_on_sample_event(capsys, tmp_path):
     assert abs(loc["distance_km"] - truth["distance_from_km"]["VELLMOOR-VM-CR1"]) < 1.0
     assert d["comparison"] and all(
         len(c["measured"]) == 2 and len(c["computed"]) == 2 for c in d["comparison"])
+
+
+def test_terminal_option_pairs_record_and_rejects_unknown_id(capsys):
+    root = Path(__file__).parents[2]
+    ev = root / "sample_events" / "vm_cr1_bg"
+    model = str(root / "models" / "northmarch_230kv.toml")
+    assert main(["analyze", str(ev / "VELLMOOR.cfg"), "--model", model,
+                 "--terminal", "VELLMOOR-VM-CR1", "--json", "-"]) == 0
+    d = json.loads(capsys.readouterr().out)
+    assert d["location"]["reference_terminal"] == "VELLMOOR-VM-CR1"
+    assert main(["analyze", str(ev / "VELLMOOR.cfg"), "--model", model,
+                 "--terminal", "NO-SUCH"]) == 2
+    err = capsys.readouterr().err.strip().splitlines()
+    assert len(err) == 1 and "NO-SUCH" in err[0]
