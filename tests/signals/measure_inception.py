@@ -1,0 +1,80 @@
+"""Print inception errors and classification over noise, angles, rates and fault resistance.
+
+Run: ``python tests/signals/measure_inception.py [--quick]``.  Not collected by
+pytest (no ``test_`` prefix); the tests in ``test_robustness.py`` check a
+subset.  Noise: Gaussian, standard deviation = level x rated peak (voltage
+``sqrt(2) V_ln``, current ``sqrt(2) 1000 A``), seeded.
+"""
+
+from __future__ import annotations
+
+import sys
+import time
+from pathlib import Path
+from types import SimpleNamespace
+
+import numpy as np
+
+sys.path.insert(0, str(Path(__file__).parent))
+from faultwaves import System, fault_event, steady_phasors  # noqa: E402
+
+from eventlab.faulttypes import FAULT_TYPES  # noqa: E402
+from eventlab.signals.timeline import build_timeline  # noqa: E402
+
+
+def inception_times(system: System, t0: float = 0.05):
+    """Inception times near ``t0`` at phase-A voltage zero, +45 deg, peak and +135 deg."""
+    v_pre, _ = steady_phasors(system, 0.5, None)
+    w = 2 * np.pi * system.f0_hz
+    ph = np.angle(v_pre[0])
+    out = {}
+    for name, target in (("zero", np.pi / 2), ("45", np.pi / 2 + np.pi / 4),
+                         ("peak", np.pi), ("135", np.pi + np.pi / 4)):
+        k = np.ceil((w * t0 + ph - target) / (2 * np.pi))
+        out[name] = (target - ph + 2 * np.pi * k) / w
+    return out
+
+
+def run(e):
+    trips = [SimpleNamespace(name="TRIP", values=e["trip"], normal=0)]
+    bkrs = [SimpleNamespace(name="52A", values=e["breaker"], normal=1)]
+    return build_timeline(e["t"], e["v_abc"], e["i_abc"], e["samples_per_cycle"],
+                          trips=trips, breakers=bkrs)
+
+
+def main(quick: bool = False):
+    s = System()
+    incs = inception_times(s)
+    seeds = range(3 if quick else 5)
+    rows = []
+    for noise in (0.0, 0.005, 0.01, 0.02):
+        for n in ((64,) if quick else (16, 32, 64, 128, 256)):
+            for rf in (0.0, 20.0, 60.0):
+                errs, wrong, cnt = [], [], 0
+                for ftype in FAULT_TYPES:
+                    for name, ti in incs.items():
+                        for seed in (seeds if noise > 0 else (0,)):
+                            e = fault_event(ftype, ti, noise=noise, seed=seed,
+                                            samples_per_cycle=n, r_fault_ohm=rf)
+                            tl = run(e)
+                            cnt += 1
+                            if tl.inception_s is None:
+                                errs.append(np.inf)
+                            else:
+                                errs.append(abs(tl.inception_s - ti))
+                            if tl.fault_type != ftype:
+                                wrong.append((ftype, name, seed, tl.fault_type))
+                errs = np.array(errs) * 1e3
+                rows.append((noise, n, rf, cnt, np.max(errs), np.percentile(errs, 95),
+                             len(wrong)))
+                print(f"noise {100 * noise:4.1f} %  N {n:3d}  Rf {rf:4.0f} ohm  cases {cnt:4d}  "
+                      f"max {np.max(errs):7.3f} ms  p95 {np.percentile(errs, 95):6.3f} ms  "
+                      f"dt {1e3 / (n * 60):.3f} ms  wrong type {len(wrong)} "
+                      f"{wrong[:4]}", flush=True)
+    return rows
+
+
+if __name__ == "__main__":
+    t0 = time.perf_counter()
+    main("--quick" in sys.argv)
+    print(f"{time.perf_counter() - t0:.1f} s")
