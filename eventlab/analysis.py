@@ -359,7 +359,12 @@ def _terminal(record: Record, k_rec: int, term: TerminalChannels, n: int, fs: fl
     f_used = None
     f_est = freq(min(3 * n, t.size), v_ph)
     if off(f_est):
-        f_est = estimate_frequency(v, n, fs, f0, 0, min(3 * n, t.size), iterations=2)
+        try:
+            f_est = estimate_frequency(v, n, fs, f0, 0, min(3 * n, t.size), iterations=2)
+        except SignalError as exc:  # e.g. A-C-B rotation: V1 turns backwards
+            warnings.append(f"record {k_rec}: no frequency estimate from the first cycles "
+                            f"({exc}); phasors at the nominal frequency")
+            f_est = None
         if off(f_est):
             v_ph, i_ph = track(f_est)
             f_used = f_est
@@ -434,6 +439,22 @@ def _terminal(record: Record, k_rec: int, term: TerminalChannels, n: int, fs: fl
                     np.nan)
     v012p, i012p, v012f, i012f = (None if x is None else _ro(x)
                                   for x in (v012p, i012p, v012f, i012f))
+    i_n = flt.get(term.neutral_current.name) if term.neutral_current is not None else None
+    if v012p is None and t.size >= n:
+        # no pre-fault window: the record's first full cycle stands for it (a standing
+        # unbalance from a miswired CT makes the whole record look faulted)
+        v_first, i_first = abc_to_012(v_ph[:, n - 1]), abc_to_012(i_ph[:, n - 1])
+        if i012f is not None:
+            i_scale = i012f
+        else:  # the largest current phasors of the record
+            mag = np.abs(i_ph[:, n - 1:]).max(axis=0)
+            i_scale = abc_to_012(i_ph[:, n - 1 + int(np.argmax(np.where(np.isfinite(mag),
+                                                                          mag, -1.0)))])
+        checks = measurement_checks(v_first, i_first, i_scale, i_n)
+    else:
+        checks = measurement_checks(v012p, i012p, i012f, i_n)
+    flags.extend(checks)
+    warnings.extend(f"record {k_rec} terminal {term.label or '(single)'}: {c}" for c in checks)
     ta = TerminalAnalysis(
         record=k_rec, label=term.label, channels=MappingProxyType(dict(roles)), timeline=tl,
         classification=cls, prefault=MappingProxyType(pre), fault=MappingProxyType(flt),
@@ -441,6 +462,65 @@ def _terminal(record: Record, k_rec: int, term: TerminalChannels, n: int, fs: fl
         peak_a=peak, rms_fault=MappingProxyType(rms_flt), rms_prefault=MappingProxyType(rms_pre),
         flags=tuple(flags))
     return ta, f_est, tracked
+
+
+#: Plausibility limits of :func:`measurement_checks` (common practice, no source):
+#: a healthy pre-fault system has unbalance well under these.
+PREFAULT_UNBALANCE_LIMIT = 0.3     # |I0| or |I2| over |I1|, pre-fault
+PREFAULT_V_UNBALANCE_LIMIT = 0.1   # |V0| or |V2| over |V1|, pre-fault
+RESIDUAL_MISMATCH_LIMIT = 0.1      # |IN - 3 I0| over max(|3 I0|, 5 % of |I1|), fault window
+
+
+def measurement_checks(v012_pre, i012_pre, i012_fault=None, i_n_fault=None) -> list[str]:
+    """Plain-words flags for measurements that do not look like a healthy terminal.
+
+    Parameters
+    ----------
+    v012_pre, i012_pre : complex array (3,) or None
+        Pre-fault sequence voltages [V] and currents [A] (0, 1, 2).
+    i012_fault : complex array (3,), optional
+        Fault-window sequence currents [A].
+    i_n_fault : complex, optional
+        Fault-window phasor of a measured neutral (residual) current [A].
+
+    Returns
+    -------
+    list of str
+        Empty when nothing is suspect.
+
+    Notes
+    -----
+    A reversed or miswired CT on one phase turns a balanced load into one
+    with ``|I0| = |I2| = 2/3 |I1|`` of the healthy value; a reversed phase
+    sequence swaps positive and negative sequence; a missing VT phase gives
+    ``|V0| = |V2| = |V1| / 2``.  A measured residual current that differs from
+    ``IA + IB + IC`` points at CT wiring, ratio or saturation.  The limits are
+    common practice (no source).
+    """
+    out: list[str] = []
+    if v012_pre is not None:
+        v0, v1, v2 = (abs(complex(x)) for x in v012_pre)
+        if v1 > 0 and v2 > v1:
+            out.append(f"pre-fault voltages rotate A-C-B (|V2| {v2:.4g} V > |V1| {v1:.4g} V): "
+                       f"phase sequence or VT wiring suspected")
+        elif v1 > 0 and max(v0, v2) > PREFAULT_V_UNBALANCE_LIMIT * v1:
+            out.append(f"pre-fault voltages unbalanced (|V0|/|V1| {v0 / v1:.2f}, |V2|/|V1| "
+                       f"{v2 / v1:.2f}): VT wiring, polarity or a blown VT fuse suspected")
+    if i012_pre is not None and i012_fault is not None:
+        i0, i1, i2 = (abs(complex(x)) for x in i012_pre)
+        i_scale = max(abs(complex(x)) for x in i012_fault)
+        # only where the load current is well above the noise of the fault-scaled CT
+        if i1 > 0.02 * i_scale and max(i0, i2) > PREFAULT_UNBALANCE_LIMIT * i1:
+            out.append(f"pre-fault currents unbalanced (|I0|/|I1| {i0 / i1:.2f}, |I2|/|I1| "
+                       f"{i2 / i1:.2f}): CT polarity or wiring of one phase suspected")
+    if i_n_fault is not None and i012_fault is not None and np.isfinite(complex(i_n_fault)):
+        three_i0 = 3.0 * complex(i012_fault[0])
+        ref = max(abs(three_i0), 0.05 * abs(complex(i012_fault[1])), 1e-9)
+        mis = abs(complex(i_n_fault) - three_i0) / ref
+        if mis > RESIDUAL_MISMATCH_LIMIT:
+            out.append(f"measured residual current differs from IA + IB + IC by {100 * mis:.0f} "
+                       f"% in the fault window: CT saturation, ratio or wiring suspected")
+    return out
 
 
 def model_terminal(model, record: Record, line: str | None = None,

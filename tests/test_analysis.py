@@ -330,3 +330,36 @@ def test_explicit_terminal_and_remote_without_model_terminal():
     assert not any(m["method"].startswith("two_ended") for m in loc["methods"])
     assert any("alone" in w for w in a.warnings)
     assert abs(loc["distance_km"] - truth["distance_from_km"][tid]) <= 0.02 * loc["length_km"]
+
+
+def test_measurement_checks_flag_miswired_instrument_transformers():
+    # Fortescue of a balanced set with one phase reversed: |I0| = |I2| = 2 |I1|
+    # (I1 drops to 1/3, I0 and I2 rise to 2/3 of the healthy I1); a lost VT phase
+    # gives |V0| = |V2| = |V1| / 2 (worked by hand from x1 = (xa + a xb + a^2 xc)/3)
+    import dataclasses
+
+    from eventlab.analysis import measurement_checks
+    from eventlab.records import read_record
+    from eventlab.symmetrical import A_OP, abc_to_012
+
+    bal = np.array([1.0, A_OP**2, A_OP])
+    healthy = measurement_checks(abc_to_012(1e5 * bal), abc_to_012(400 * bal),
+                                 abc_to_012(np.array([400, 3000, 400]) * bal))
+    assert healthy == []
+    rev = abc_to_012(400 * bal * np.array([1, -1, 1]))
+    assert abs(rev[0]) == pytest.approx(2 * abs(rev[1]))
+    (msg,) = measurement_checks(abc_to_012(1e5 * bal), rev, abc_to_012(3000 * bal))
+    assert "CT polarity" in msg
+    lost = abc_to_012(1e5 * bal * np.array([1, 1, 0]))
+    (msg,) = measurement_checks(lost, None)
+    assert "VT" in msg and "0.50" in msg
+    (msg,) = measurement_checks(abc_to_012(1e5 * np.conj(bal)), None)
+    assert "A-C-B" in msg
+
+    # end to end: phase B's CT reversed on the bundled record
+    root = Path(__file__).parents[1]
+    rec = read_record(root / "sample_events" / "vm_cr1_bg" / "VELLMOOR.cfg")
+    bad = dataclasses.replace(rec, analog=tuple(
+        dataclasses.replace(c, values=-c.values) if c.name == "IB" else c for c in rec.analog))
+    assert not any("suspected" in w for w in analyze([rec]).warnings)
+    assert any("CT polarity" in w for w in analyze([bad]).warnings)
