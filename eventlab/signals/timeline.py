@@ -35,7 +35,9 @@ V_SAG = 0.90             # |V1| under this times the reference: voltage sag
 V_UNBAL = 0.05           # |V2| or |V0| over the reference |V1|
 _CP_LEN = 0.5            # change point: pre and post segment [cycles]
 _CP_BACK = 0.25          # candidates back from the threshold detector's sample [cycles]
-_CP_DEG = 1              # polynomial degree of the post-onset offset model
+_CP_DEG_STEP = 0         # polynomial degree of the post-onset offset: voltages
+_CP_DEG_CONT = 1         # ... currents (decaying offset)
+_CP_FRACTIONS = (np.arange(8) + 0.5) / 8.0   # sub-sample onset offsets tried
 _CURRENT_ROWS = np.array([False, False, False, True, True, True])   # rows of [dv; di]
 
 
@@ -210,7 +212,8 @@ def detect_onset(delta, search: tuple[int, int], baseline: tuple[int, int],
 
 def refine_onset(delta, k_coarse: int, samples_per_cycle: int, *, lo: int,
                  hi: int | None = None, sigma=None, peak=None,
-                 cycle_samples: float | None = None, continuous=None) -> int:
+                 cycle_samples: float | None = None, continuous=None,
+                 samples=None, max_cycles: int = 4) -> float:
     """Change point of the superimposed channels ``delta`` (c, n) near ``k_coarse``.
 
     Parameters
@@ -239,11 +242,23 @@ def refine_onset(delta, k_coarse: int, samples_per_cycle: int, *, lo: int,
         Channels that cannot step at the onset (currents: the network is
         inductive); their post-onset model is constrained to zero at the
         onset instant.
+    samples : array (c, n), optional
+        The raw samples ``delta`` was made from.  Given, the fit uses the
+        change against the mean of up to ``max_cycles`` earlier cycles (as
+        many as the record holds before the segment): its noise is
+        ``sqrt(1 + 1/K)`` instead of ``sqrt(2)`` times that of the samples, and
+        harmonics in the steady state still cancel.
+    max_cycles : int
+        Most cycles averaged for the reference.
 
     Returns
     -------
-    int
-        The onset: the first sample of the fault.
+    float
+        The onset instant [samples from the record's first sample]: the first
+        fault sample is ``ceil`` of it.  With continuous channels the instant
+        is resolved to an eighth of a sample (the offset within the sample that
+        best meets the constraint), else it is half a sample before the first
+        fault sample.
 
     Notes
     -----
@@ -268,16 +283,17 @@ def refine_onset(delta, k_coarse: int, samples_per_cycle: int, *, lo: int,
     d = np.atleast_2d(np.asarray(delta, dtype=float))
     n = int(samples_per_cycle)
     n_t = d.shape[-1]
-    L = M = max(int(_CP_LEN * n), 12)
+    L = max(int(_CP_LEN * n), 6)          # post segment within a cycle of the onset
+    M = max(int(_CP_LEN * n), 12)
     c_len = float(n if cycle_samples is None else cycle_samples)
     k_lo = max(int(lo), k_coarse - int(_CP_BACK * n), M)
     k_hi = min(k_coarse + 1 if hi is None else int(hi), n_t - L)
     if k_hi < k_lo:
-        return int(k_coarse)
+        return k_coarse - 0.5
     seg = d[:, k_lo - M:k_hi + L]
     ok = np.isfinite(seg).all(axis=1)
     if not ok.any():
-        return int(k_coarse)
+        return k_coarse - 0.5
     seg = seg[ok]
     if sigma is None:
         b0 = max(k_lo - M - n, 0)
@@ -287,42 +303,77 @@ def refine_onset(delta, k_coarse: int, samples_per_cycle: int, *, lo: int,
         sig = 1.4826 * np.median(np.abs(base - med), axis=1)
     else:
         sig = np.asarray(sigma, dtype=float)[ok]
+    n_cyc = min(int(max_cycles), int((k_lo - M - 1) // c_len)) if samples is not None else 1
+    if n_cyc >= 2:
+        x = np.atleast_2d(np.asarray(samples, dtype=float))[ok]
+        a0 = k_lo - M - int(np.ceil(n_cyc * c_len)) - 2
+        xs = x[:, max(a0, 0):k_hi + L]
+        ref = np.zeros((xs.shape[0], seg.shape[1]))
+        for m in range(1, n_cyc + 1):
+            dm = superimposed(xs, m * n, None if cycle_samples is None else m * c_len)
+            ref += dm[:, -seg.shape[1]:]
+        seg_k = ref / n_cyc
+        if np.isfinite(seg_k).all():
+            seg = seg_k
+            # white noise: the one-cycle delta has sqrt(2) sigma, this one sqrt(1 + 1/K)
+            sig = sig * np.sqrt((1.0 + 1.0 / n_cyc) / 2.0)
     pk = np.max(np.abs(seg), axis=1) if peak is None else np.asarray(peak, dtype=float)[ok]
     sig = np.maximum(sig, 1e-6 * np.maximum(pk, 1e-300))
     z = seg / sig[:, None]
-    # basis over the whole segment [k_lo - M, k_hi + L): its span restricted to the rows
-    # after a candidate is the span of the post-onset model for that candidate
     n_s = seg.shape[1]
-    j = np.arange(n_s, dtype=float)
     w = 2.0 * np.pi / c_len
+    rows = np.arange(M, M + k_hi - k_lo + 1)                 # candidate k at row k - k_lo + M
+    cont = np.zeros(d.shape[0], dtype=bool) if continuous is None else \
+        np.asarray(continuous, dtype=bool)[ok]
+    fracs = np.asarray(_CP_FRACTIONS)
+    cost = np.zeros((fracs.size, rows.size))
+    if (~cont).any():
+        cost += _cp_cost(z[~cont], rows, w, n_s, _CP_DEG_STEP, None)[None, :]
+    if cont.any():
+        cost += _cp_cost(z[cont], rows, w, n_s, _CP_DEG_CONT, fracs)
+    else:
+        cost[:] = cost[fracs.size // 2]
+        fracs = np.full(fracs.size, 0.5)
+    fi, m = np.unravel_index(int(np.argmin(cost)), cost.shape)
+    return float(k_lo + m - fracs[fi])
+
+
+def _cp_basis(j, w: float, n_s: int, deg: int) -> np.ndarray:
     u = 2.0 * (j - 0.5 * (n_s - 1)) / n_s
-    basis = np.column_stack([np.cos(w * j), np.sin(w * j)] + [u ** p for p in range(_CP_DEG + 1)])
-    # sums over rows r >= k (reverse cumulative): Gram G (5x5), B^T z (c x 5), z^T z (c)
+    return np.column_stack([np.cos(w * j), np.sin(w * j)] + [u ** p for p in range(deg + 1)])
+
+
+def _cp_cost(z, rows, w: float, n_s: int, deg: int, fracs) -> np.ndarray:
+    """Change-point cost of each candidate row for channels ``z`` (c, n_s), noise-scaled.
+
+    Pre part: sum of squares before the row; post part: least-squares residual on
+    the basis of :func:`_cp_basis` over the rows from the candidate on (its span
+    on absolute rows is the post-onset model of every candidate: one reverse
+    cumulative Gram matrix serves all).  With ``fracs``, the fit is constrained
+    to zero at ``row - f`` for each ``f``: the constrained fit explains
+    ``(c^T theta)^2 / (c^T G^-1 c)`` less; returns (len(fracs), len(rows)) then,
+    else (len(rows),).
+    """
+    j = np.arange(n_s, dtype=float)
+    basis = _cp_basis(j, w, n_s, deg)
     gram = np.cumsum((basis[:, :, None] * basis[:, None, :])[::-1], axis=0)[::-1]
     bz = np.cumsum((z.T[:, :, None] * basis[:, None, :])[::-1], axis=0)[::-1]
-    zz = np.cumsum((z * z).sum(axis=0)[::-1])[::-1]
-    z2c = np.concatenate([[0.0], np.cumsum((z * z).sum(axis=0))])
-    rows = np.arange(M, M + k_hi - k_lo + 1)                 # candidate k at row k - k_lo + M
+    e2 = (z * z).sum(axis=0)
+    zz = np.cumsum(e2[::-1])[::-1]
+    z2c = np.concatenate([[0.0], np.cumsum(e2)])
     g = gram[rows]
     r = bz[rows]                                             # (n_k, c, p)
     coef = np.linalg.solve(g, np.swapaxes(r, 1, 2))          # (n_k, p, c)
-    explained = np.einsum("kcp,kpc->k", r, coef)
-    cost = z2c[rows] + zz[rows] - explained                  # pre + post residual
-    cont = np.zeros(d.shape[0], dtype=bool) if continuous is None else \
-        np.asarray(continuous, dtype=bool)[ok]
-    if cont.any():
-        # continuous channels (currents through inductance): the model is zero at the
-        # onset instant, half a sample before the first fault sample; the constrained fit
-        # explains (c^T theta)^2 / (c^T G^-1 c) less
-        jc = rows - 0.5
-        uc = 2.0 * (jc - 0.5 * (n_s - 1)) / n_s
-        cvec = np.column_stack([np.cos(w * jc), np.sin(w * jc)]
-                               + [uc ** p for p in range(_CP_DEG + 1)])   # (n_k, p)
-        ginv_c = np.linalg.solve(g, cvec[:, :, None])[:, :, 0]
-        den = np.einsum("kp,kp->k", cvec, ginv_c)
-        val = np.einsum("kp,kpc->kc", cvec, coef)[:, cont]    # model value at the onset
-        cost = cost + (val * val).sum(axis=1) / den
-    return int(k_lo + int(np.argmin(cost)))
+    cost = z2c[rows] + zz[rows] - np.einsum("kcp,kpc->k", r, coef)
+    if fracs is None:
+        return cost
+    out = np.empty((len(fracs), rows.size))
+    for q, f in enumerate(fracs):
+        cvec = _cp_basis(rows - f, w, n_s, deg)               # (n_k, p)
+        den = np.einsum("kp,kp->k", cvec, np.linalg.solve(g, cvec[:, :, None])[:, :, 0])
+        val = np.einsum("kp,kpc->kc", cvec, coef)             # model value at the onset
+        out[q] = cost + (val * val).sum(axis=1) / den
+    return out
 
 
 def pole_events(time_s, i_abc, samples_per_cycle: int, floor_a: float = 0.0,
@@ -551,13 +602,17 @@ def build_timeline(time_s, v_abc, i_abc, samples_per_cycle: int, *,
         lo, hi = max(a - 2 * n, 0), min(b + n, n_t)
         peak = np.nanmax(np.abs(raw[:, lo:hi]), axis=1)
         k_on = detect_onset(chans, search, base, peak)
+        onset_s = None
         if k_on is None:
             k_on = max(a - n + 1, 1)
             flags.append(f"inception near {t[k_on]:.4f} s estimated from phasors "
                          f"(no clear superimposed step)")
         elif k_on > n:
-            k_on = refine_onset(chans, k_on, n, lo=search[0], peak=peak,
-                                cycle_samples=cycle_samples, continuous=_CURRENT_ROWS)
+            pos = refine_onset(chans, k_on, n, lo=search[0], peak=peak,
+                               cycle_samples=cycle_samples, continuous=_CURRENT_ROWS,
+                               samples=raw)
+            k_on = int(np.ceil(pos))
+            onset_s = float(t[k_on] - (k_on - pos) * dt)
         if k_on <= n:
             flags.append("the record starts in a fault: no pre-fault cycle")
         kind = "fault"
@@ -565,7 +620,7 @@ def build_timeline(time_s, v_abc, i_abc, samples_per_cycle: int, *,
                 and intervals:
             kind = "reclose"
         stages = _stages(t, v, i, v_ph, i_ph, n, fs, k_on, b, poles, kind, mitigate_offset,
-                         tau_s, d_v, d_i, peak, flags, 3.0 * noise_ph_a)
+                         tau_s, d_v, d_i, peak, flags, 3.0 * noise_ph_a, onset_s)
         intervals.extend(stages)
         last = stages[-1]
         prev_end = (last.end_index if last.end_index is not None else b) + n // 2
@@ -633,7 +688,8 @@ def _classify_at(t, v, i, v_ph, i_ph, n, fs, k_pre_win, win: Window, tau_s, miti
 
 
 def _stages(t, v, i, v_ph, i_ph, n, fs, k_on, run_end, poles, kind, mitigate, tau_given,
-            d_v, d_i, peak, flags, min_current_a=0.0) -> list[FaultInterval]:
+            d_v, d_i, peak, flags, min_current_a=0.0,
+            onset_s: float | None = None) -> list[FaultInterval]:
     """The interval(s) of one disturbance: the fault and, if it evolves, its later stages."""
     n_t = t.size
     pre = prefault_window(t, k_on, n)
@@ -731,7 +787,7 @@ def _stages(t, v, i, v_ph, i_ph, n, fs, k_on, run_end, poles, kind, mitigate, ta
         ke = bounds[j + 1][0] if j + 1 < len(bounds) else k_end
         out.append(FaultInterval(
             kind=kind if j == 0 else "evolved", type=cc.type,
-            start_s=_onset_time(t, ks),
+            start_s=onset_s if (j == 0 and onset_s is not None) else _onset_time(t, ks),
             end_s=None if ke is None else (_onset_time(t, ke) if j + 1 < len(bounds)
                                            else float(t[ke])),
             start_index=int(ks), end_index=None if ke is None else int(ke),
