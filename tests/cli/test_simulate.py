@@ -21,7 +21,7 @@ def test_simulate_writes_records_and_truth(tmp_path, capsys):
                "--duration", "0.25", "--format", "ascii", "-o", str(out)])
     assert rc == 0
     names = sorted(p.name for p in out.iterdir())
-    assert names == ["HADLEY_FEN.cfg", "HADLEY_FEN.dat", "ORRINSBY.cfg", "ORRINSBY.dat",
+    assert names == ["HESKARD_FEN.cfg", "HESKARD_FEN.dat", "ORRINSBY.cfg", "ORRINSBY.dat",
                      "truth.json"]
     truth = json.loads((out / "truth.json").read_text())
     assert truth["type"] == "BG" and truth["fraction"] == 0.37 and truth["r_fault_ohm"] == 3.0

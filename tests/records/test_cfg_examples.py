@@ -215,7 +215,7 @@ ASCII
 def test_1991_file(tmp_path):
     # 1991: no rev_year, 10-field analog lines without ratios, mm/dd/yy dates,
     # no timemult line (from memory of C37.111-1991)
-    cfg = write_case(tmp_path, "old", """HADLEY FEN,REL 1
+    cfg = write_case(tmp_path, "old", """HESKARD FEN,REL 1
 2,1A,1D
 1,IA,A,HF2,A,0.1,0,0,-32767,32767
 1,TRIP,0
@@ -227,7 +227,7 @@ def test_1991_file(tmp_path):
 ASCII
 """, "1,0,10,0\n2,1667,20,1\n3,3333,-30,1\n")
     rec = read_record(cfg)
-    assert rec.revision == 1991 and rec.station == "HADLEY FEN"
+    assert rec.revision == 1991 and rec.station == "HESKARD FEN"
     assert rec.start == datetime(1991, 3, 4, 12, 0, 0)   # mm/dd/yy: 4 March
     np.testing.assert_allclose(rec.analog[0].values, [1.0, 2.0, -3.0])
     assert rec.analog[0].ratio == 1.0 and rec.status[0].name == "TRIP"
