@@ -47,6 +47,11 @@ WEAK_CURRENT = 0.20      # max |dI| under this times the prefault max |I|: curre
 V0_GROUND = 0.02         # |V0| over the prefault |V1| that confirms ground with >= 0.03 ratio
 DLG_SECOND = 0.50        # two-phase pattern: second largest |dI| at least this of the largest
 DLG_THIRD = 0.20         # ... and the smallest at most this of the largest
+GROUND_Z0 = 0.04         # |3 dI0| / max |dI_p| that counts as ground when V0 confirms it
+V0_MIN = 0.002           # |dV0| over the prefault |V1| for that confirmation
+Z0_SECTOR_DEG = 50.0     # arg(-dV0 / dI0) within this of +75 deg (forward) or -105 (reverse)
+ABC_STEP = 2.0           # balanced step over this times the load current with a sag ...
+ABC_SAG = 0.97           # ... below this: a resistive three-phase fault
 
 
 @dataclass(frozen=True)
@@ -80,7 +85,7 @@ def _wrap180(deg: float) -> float:
 
 
 def _decide(d_abc: np.ndarray, x_012: np.ndarray, basis: str,
-            v0_ratio: float | None = None) -> Classification:
+            v0_ratio: float | None = None, z0_ground: bool = False) -> Classification:
     """Phase selection from superimposed phasors ``d_abc`` and fault-window sequence ``x_012``."""
     d_abc = np.asarray(d_abc, dtype=complex)
     mags = np.abs(d_abc)
@@ -108,7 +113,7 @@ def _decide(d_abc: np.ndarray, x_012: np.ndarray, basis: str,
                               "balanced superimposed quantities in all three loops")
     # a zero-sequence voltage confirms a weaker ground current (high resistance to ground)
     by_v0 = (v0_ratio is not None and v0_ratio > V0_GROUND
-             and ground_ratio > 0.3 * GROUND_RATIO)
+             and ground_ratio > 0.3 * GROUND_RATIO) or z0_ground
     if v0_ratio is not None:
         ev["v0_over_v1_prefault"] = float(v0_ratio)
     if (ground_ratio > GROUND_RATIO or by_v0) and abs(x0) > 0:
@@ -167,7 +172,8 @@ def _clip01(x: float) -> float:
 
 
 def classify_fault(i_pre_abc, i_fault_abc, v_pre_abc=None, v_fault_abc=None, *,
-                   min_current_a: float = 0.0) -> Classification:
+                   min_current_a: float = 0.0, noise_floor_a: float = 0.0,
+                   noise_floor_v: float = 0.0) -> Classification:
     """Fault type from pre-fault and fault-window phasors of one terminal.
 
     Parameters
@@ -179,6 +185,9 @@ def classify_fault(i_pre_abc, i_fault_abc, v_pre_abc=None, v_fault_abc=None, *,
     min_current_a : float
         Superimposed current [A] below which the currents are not trusted
         (e.g. a few times the noise level).
+    noise_floor_a, noise_floor_v : float
+        Phasor noise levels [A], [V]: the zero-sequence confirmation of a
+        weak ground path needs ``|3 dI0|`` and ``|dV0|`` above them.
 
     Returns
     -------
@@ -189,7 +198,14 @@ def classify_fault(i_pre_abc, i_fault_abc, v_pre_abc=None, v_fault_abc=None, *,
     Notes
     -----
     Ground involvement: ``|3 I0| > 0.1 max_p |dI_p|``, or above 0.03 with
-    ``|V0| > 0.02 |V1_prefault|``.  Ground faults: if
+    ``|V0| > 0.02 |V1_prefault|``, or (high resistance to ground) the
+    superimposed zero-sequence pair agrees with a zero-sequence source:
+    ``|3 dI0| > 0.04 max_p |dI_p|``, ``|dV0| > 0.002 |V1_prefault|``, both
+    above the noise, and ``arg(-dV0 / dI0)`` within 50 deg of +75 deg (fault
+    ahead: ``dV0 = -Z0s dI0``) or of -105 deg (fault behind).  A bolted
+    phase-to-phase fault has ``dI0 = dV0 = 0`` exactly (sequence
+    connection without the zero-sequence network: Grainger and Stevenson,
+    *Power System Analysis*, 1994, sec. 12.4, from memory).  Ground faults: if
     two phases carry at least half the largest superimposed current and the
     third at most a fifth, the two-phase-to-ground fault of those two
     (resistance to ground turns the I2/I0 angle of such a fault towards the
@@ -217,13 +233,25 @@ def classify_fault(i_pre_abc, i_fault_abc, v_pre_abc=None, v_fault_abc=None, *,
     m_i = float(np.abs(d_i).max())
     weak = m_i <= max(float(min_current_a), WEAK_CURRENT * float(np.abs(i_pre).max()))
     v0_ratio = (abs(v012_f[0]) / v1_pre) if have_v and v1_pre > 0 else None
+    z0_ground = False
+    z0_ang = None
+    if have_v and v1_pre > 0 and m_i > 0:
+        di0 = abc_to_012(d_i)[0]
+        dv0 = abc_to_012(v_f - v_pre)[0]
+        if (3.0 * abs(di0) > max(GROUND_Z0 * m_i, 3.0 * float(noise_floor_a))
+                and abs(dv0) > max(V0_MIN * v1_pre, float(noise_floor_v))):
+            z0_ang = float(np.degrees(np.angle(-dv0 / di0)))
+            z0_ground = min(abs(_wrap180(z0_ang - 75.0)),
+                            abs(_wrap180(z0_ang + 105.0))) <= Z0_SECTOR_DEG
     if weak and have_v:
         out = _decide(v_f - v_pre, v012_f, "voltages")
     elif m_i > 0:
-        out = _decide(d_i, abc_to_012(i_f), "currents", v0_ratio)
+        out = _decide(d_i, abc_to_012(i_f), "currents", v0_ratio, z0_ground)
     else:
         return Classification(NO_FAULT, 1.0, False, "", {}, "no superimposed current")
     ev = dict(out.evidence)
+    if z0_ang is not None:
+        ev["angle_minus_dv0_di0_deg"] = z0_ang
     if sag is not None:
         ev["v1_fault_over_prefault"] = float(sag)
         ev["v_unbalance"] = float(v_unbal)
@@ -232,10 +260,10 @@ def classify_fault(i_pre_abc, i_fault_abc, v_pre_abc=None, v_fault_abc=None, *,
     ev["i_prefault_max_a"] = i_pre_max
     # a balanced change with no voltage sag is a load change or switching
     if out.type == "ABC":
-        # a step to over three times the load current with some sag is a resistive
+        # a step to over twice the load current with some sag is a resistive
         # three-phase fault, not a load change (common practice, no source)
-        big_step = i_pre_max > 0 and m_i > 3.0 * i_pre_max
-        no_sag = sag is not None and (sag >= 0.97 or (sag >= SAG_FAULT and not big_step))
+        big_step = i_pre_max > 0 and m_i > ABC_STEP * i_pre_max
+        no_sag = sag is not None and (sag >= ABC_SAG or (sag >= SAG_FAULT and not big_step))
         small_step = sag is None and m_i < 2.0 * i_pre_max
         if no_sag or small_step:
             return Classification(NO_FAULT, 0.5 + 0.5 * _clip01((sag - SAG_FAULT) / 0.05)

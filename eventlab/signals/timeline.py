@@ -37,6 +37,7 @@ _CP_LEN = 0.5            # change point: pre and post segment [cycles]
 _CP_BACK = 0.25          # candidates back from the threshold detector's sample [cycles]
 _CP_DEG_STEP = 0         # polynomial degree of the post-onset offset: voltages
 _CP_DEG_CONT = 1         # ... currents (decaying offset)
+_BASE_MIN = 64           # fewest samples for a noise baseline (where the record holds them)
 _CP_FRACTIONS = (np.arange(8) + 0.5) / 8.0   # sub-sample onset offsets tried
 _CURRENT_ROWS = np.array([False, False, False, True, True, True])   # rows of [dv; di]
 
@@ -296,9 +297,11 @@ def refine_onset(delta, k_coarse: int, samples_per_cycle: int, *, lo: int,
         return k_coarse - 0.5
     seg = seg[ok]
     if sigma is None:
-        b0 = max(k_lo - M - n, 0)
-        base = d[ok, b0:k_lo - M] if k_lo - M - b0 >= 4 else seg[:, :M]
-        base = np.where(np.isfinite(base), base, 0.0)
+        b0 = max(k_lo - M - max(n, _BASE_MIN), 0)
+        base = d[ok, b0:k_lo - M]
+        base = base[:, np.isfinite(base).all(axis=0)]
+        if base.shape[1] < 4:
+            base = seg[:, :M]
         med = np.median(base, axis=1, keepdims=True)
         sig = 1.4826 * np.median(np.abs(base - med), axis=1)
     else:
@@ -583,6 +586,10 @@ def build_timeline(time_s, v_abc, i_abc, samples_per_cycle: int, *,
         live |= st
     # phasor noise: E|X|^2 = 2 sigma^2 / N for white noise of std sigma; eight times that
     noise_ph_a = 8.0 * float(noise_i.max()) * np.sqrt(2.0 / n)
+    noise_v = 1.4826 * np.median(np.abs(d_v[:, 2 * n:3 * n]), axis=1) / np.sqrt(2)
+    noise_ph_v = 8.0 * float(noise_v.max()) * np.sqrt(2.0 / n)
+    # weak-infeed current level and the noise floors of the zero-sequence pair [A, A, V]
+    floors = (3.0 * noise_ph_a, noise_ph_a, noise_ph_v)
     fault = fault_indicator(v_ph, i_ph, live, v1_ref, i_scale, noise_ph_a)
     runs = _runs(fault, min_len=max(n // 4, 2), max_gap=n // 2)
 
@@ -598,7 +605,9 @@ def build_timeline(time_s, v_abc, i_abc, samples_per_cycle: int, *,
         # cycle before the search is the baseline (noise, off-nominal residual)
         s0 = max(a - 2 * n, prev_end + n, 2 * n)
         search = (min(s0, a), a + 1)
-        base = (search[0] - n, search[0])
+        # baseline: the cycle before the search, at least 64 samples where the record
+        # holds them (a MAD over 16 samples is too loose a noise estimate at 16 a cycle)
+        base = (max(search[0] - max(n, _BASE_MIN), n), search[0])
         lo, hi = max(a - 2 * n, 0), min(b + n, n_t)
         peak = np.nanmax(np.abs(raw[:, lo:hi]), axis=1)
         k_on = detect_onset(chans, search, base, peak)
@@ -620,7 +629,7 @@ def build_timeline(time_s, v_abc, i_abc, samples_per_cycle: int, *,
                 and intervals:
             kind = "reclose"
         stages = _stages(t, v, i, v_ph, i_ph, n, fs, k_on, b, poles, kind, mitigate_offset,
-                         tau_s, d_v, d_i, peak, flags, 3.0 * noise_ph_a, onset_s)
+                         tau_s, d_v, d_i, peak, flags, floors, onset_s)
         intervals.extend(stages)
         last = stages[-1]
         prev_end = (last.end_index if last.end_index is not None else b) + n // 2
@@ -671,7 +680,7 @@ def _first_trip(edges, after_s):
 
 
 def _classify_at(t, v, i, v_ph, i_ph, n, fs, k_pre_win, win: Window, tau_s, mitigate,
-                 min_current_a=0.0):
+                 floors=(0.0, 0.0, 0.0)):
     i_pre = i_ph[:, k_pre_win.end_index] if k_pre_win is not None else np.zeros(3, complex)
     v_pre = v_ph[:, k_pre_win.end_index] if k_pre_win is not None else None
     k = win.end_index
@@ -683,12 +692,13 @@ def _classify_at(t, v, i, v_ph, i_ph, n, fs, k_pre_win, win: Window, tau_s, miti
     if v_pre is not None and np.abs(v_pre).max() <= 0:
         v_pre = None
     c = classify_fault(i_pre, i_f, v_pre, None if v_pre is None else v_f,
-                       min_current_a=min_current_a)
+                       min_current_a=floors[0], noise_floor_a=floors[1],
+                       noise_floor_v=floors[2])
     return c, i_pre, v_pre if v_pre is not None else np.zeros(3, complex), i_f, v_f
 
 
 def _stages(t, v, i, v_ph, i_ph, n, fs, k_on, run_end, poles, kind, mitigate, tau_given,
-            d_v, d_i, peak, flags, min_current_a=0.0,
+            d_v, d_i, peak, flags, floors=(0.0, 0.0, 0.0),
             onset_s: float | None = None) -> list[FaultInterval]:
     """The interval(s) of one disturbance: the fault and, if it evolves, its later stages."""
     n_t = t.size
@@ -709,7 +719,7 @@ def _stages(t, v, i, v_ph, i_ph, n, fs, k_on, run_end, poles, kind, mitigate, ta
         tau = estimate_decay_tau(i, n, fs, k_on + 1) if stop - k_on >= 2 * n else None
     win = fault_window(t, k_on, stop, n)
     c, i_pre, v_pre, i_f, v_f = _classify_at(t, v, i, v_ph, i_ph, n, fs, pre, win, tau, mitigate,
-                                             min_current_a)
+                                             floors)
     if win.flagged:
         flags.append(f"fault at {t[k_on]:.4f} s: {win.note}")
     # evolving fault: classify each half cycle after the fault window, before the opening
@@ -718,7 +728,8 @@ def _stages(t, v, i, v_ph, i_ph, n, fs, k_on, run_end, poles, kind, mitigate, ta
     pending = None
     while c.type != NO_FAULT and k < stop - 2:
         ck = classify_fault(i_pre, i_ph[:, k], None if pre is None else v_pre,
-                            None if pre is None else v_ph[:, k], min_current_a=min_current_a)
+                            None if pre is None else v_ph[:, k], min_current_a=floors[0],
+                            noise_floor_a=floors[1], noise_floor_v=floors[2])
         cur = bounds[-1][1].type
         if ck.type != cur and ck.type != NO_FAULT:
             if pending is not None and pending[1] == ck.type:
@@ -738,13 +749,13 @@ def _stages(t, v, i, v_ph, i_ph, n, fs, k_on, run_end, poles, kind, mitigate, ta
                     # the first stage's window reached into the next stage: redo it
                     w1 = fault_window(t, k_on, k_ev, n)
                     c1, _, _, i1, v1 = _classify_at(t, v, i, v_ph, i_ph, n, fs, pre, w1,
-                                                    tau, mitigate, min_current_a)
+                                                    tau, mitigate, floors)
                     if c1.type != NO_FAULT:
                         bounds[0] = (k_on, c1, w1, i1, v1)
                         cur = c1.type
                 w2 = fault_window(t, k_ev, stop, n, settle_cycles=0.5)
                 c2, _, _, i2, v2 = _classify_at(t, v, i, v_ph, i_ph, n, fs, pre, w2, None,
-                                                False, min_current_a)
+                                                False, floors)
                 if c2.type == NO_FAULT or c2.type == cur:
                     c2 = ck
                 bounds.append((k_ev, c2, w2, i2, v2))

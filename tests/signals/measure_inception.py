@@ -42,9 +42,9 @@ def run(e):
                           trips=trips, breakers=bkrs)
 
 
-def main(quick: bool = False):
+def main(quick: bool = False, t0: float = 0.05):
     s = System()
-    incs = inception_times(s)
+    incs = inception_times(s, t0)
     seeds = range(3 if quick else 5)
     rows = []
     for noise in (0.0, 0.005, 0.01, 0.02):
@@ -55,7 +55,8 @@ def main(quick: bool = False):
                     for name, ti in incs.items():
                         for seed in (seeds if noise > 0 else (0,)):
                             e = fault_event(ftype, ti, noise=noise, seed=seed,
-                                            samples_per_cycle=n, r_fault_ohm=rf)
+                                            samples_per_cycle=n, r_fault_ohm=rf,
+                                            duration_s=0.3 + (ti - 0.05))
                             tl = run(e)
                             cnt += 1
                             if tl.inception_s is None:
@@ -76,5 +77,6 @@ def main(quick: bool = False):
 
 if __name__ == "__main__":
     t0 = time.perf_counter()
-    main("--quick" in sys.argv)
+    # --late: inception after six cycles of pre-fault data instead of three
+    main("--quick" in sys.argv, 0.1 if "--late" in sys.argv else 0.05)
     print(f"{time.perf_counter() - t0:.1f} s")
