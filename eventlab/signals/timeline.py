@@ -18,7 +18,7 @@ import numpy as np
 
 from eventlab.errors import SignalError
 from eventlab.faulttypes import NO_FAULT, faulted_phases
-from eventlab.signals.classify import Classification, classify_fault
+from eventlab.signals.classify import ABC_SAG, ABC_STEP, Classification, classify_fault
 from eventlab.signals.phasors import dft_phasors, estimate_decay_tau, window_phasor
 from eventlab.signals.sequence import sequence_phasors
 from eventlab.signals.windows import Window, fault_window, prefault_window
@@ -451,7 +451,7 @@ def status_edges(time_s, channels: Sequence, role: str) -> tuple[StatusEdge, ...
 
 
 def fault_indicator(v_ph, i_ph, live, v1_ref: float, i_scale: float,
-                    noise_floor_a: float = 0.0) -> np.ndarray:
+                    noise_floor_a: float = 0.0, i1_ref: complex | None = None) -> np.ndarray:
     """Per-sample True where the phasors show a shunt fault.
 
     Parameters
@@ -468,12 +468,17 @@ def fault_indicator(v_ph, i_ph, live, v1_ref: float, i_scale: float,
         above 5 % of it and above 10 % of ``max(|I1|, i_scale)``.
     noise_floor_a : float
         Phasor noise level [A]: ``|I2|``, ``|I0|`` must also exceed it.
+    i1_ref : complex, optional
+        Pre-event positive-sequence current phasor [A].
 
     Notes
     -----
     Fault if ``|I2|`` or ``|I0|`` > 0.1 max(|I1|, scale), or, with a live
     pole, ``|V1| < 0.9 V1ref`` or ``|V2|``, ``|V0|`` > 0.05 ``V1ref``
-    (common practice, no source).
+    (common practice, no source), or (a resistive three-phase fault, whose
+    sag may be slight) ``|I1 - I1ref| > 2 max(|I1ref|, noise)`` with
+    ``|V1| < 0.97 V1ref`` -- the classifier then tells such a fault from a
+    load step.
     """
     i012 = sequence_phasors(i_ph)
     m0, m1, m2 = np.abs(i012)
@@ -485,6 +490,10 @@ def fault_indicator(v_ph, i_ph, live, v1_ref: float, i_scale: float,
         vm0, vm1, vm2 = np.abs(sequence_phasors(v_ph))
         f |= live & ((vm1 < V_SAG * v1_ref) | (vm2 > V_UNBAL * v1_ref)
                      | (vm0 > V_UNBAL * v1_ref))
+        if i1_ref is not None and np.isfinite(i1_ref):
+            step = np.abs(i012[1] - i1_ref)
+            f |= live & (vm1 < ABC_SAG * v1_ref) & (
+                step > ABC_STEP * max(abs(i1_ref), noise_floor_a, 1e-12))
     # NaN compares False above: the first incomplete window never shows a fault
     return f
 
@@ -566,7 +575,8 @@ def build_timeline(time_s, v_abc, i_abc, samples_per_cycle: int, *,
     v1_first = float(v1_all[0])
     v1_med = float(np.median(v1_all))
     v1_ref = v1_first if v1_first >= 0.5 * v1_med else v1_med
-    i1_first = float(abs(abc_to_012(i_ph[:, k_ref])[1]))
+    i1_first_ph = complex(abc_to_012(i_ph[:, k_ref])[1])
+    i1_first = abs(i1_first_ph)
     i_peak_ph = float(np.max(np.abs(i_ph[:, finite])))
     i_scale = max(i1_first, 0.05 * i_peak_ph, 1e-12)
 
@@ -590,7 +600,7 @@ def build_timeline(time_s, v_abc, i_abc, samples_per_cycle: int, *,
     noise_ph_v = 8.0 * float(noise_v.max()) * np.sqrt(2.0 / n)
     # weak-infeed current level and the noise floors of the zero-sequence pair [A, A, V]
     floors = (3.0 * noise_ph_a, noise_ph_a, noise_ph_v)
-    fault = fault_indicator(v_ph, i_ph, live, v1_ref, i_scale, noise_ph_a)
+    fault = fault_indicator(v_ph, i_ph, live, v1_ref, i_scale, noise_ph_a, i1_first_ph)
     runs = _runs(fault, min_len=max(n // 4, 2), max_gap=n // 2)
 
     edges = status_edges(t, trips, "trip") + status_edges(t, breakers, "breaker")
