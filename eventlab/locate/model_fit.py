@@ -3,7 +3,9 @@
 Unknowns ``theta``: the distance ``m`` (fraction of the route from the
 reference terminal), the fault resistance ``R_f`` (and ``R_g`` for
 two-phase-to-ground faults), and optionally the logarithms of scale factors
-on the source impedances behind the local and the remote bus.
+on the source impedances behind the local and the remote bus and, for
+ground faults seen from both ends or two-phase-to-ground faults seen from
+one, of the line's Z0 (prior: its tolerance).
 
 For each trial ``theta`` the fault solver (:func:`eventlab.network.faults.solve_fault`)
 is run twice, once with only the local-side sources driving and once with only
@@ -336,8 +338,14 @@ def fit_fault(model: NetworkModel, line_id: str, ends: Sequence[TerminalPhasors]
         names.append("ln_kr")
     # with both ends the zero-sequence currents of both sides make the line's
     # Z0 observable: fit its scale (prior: the Z0 tolerance) instead of
-    # carrying its whole tolerance into the interval
-    fit_z0 = len(ends) >= 2 and code.endswith("G")
+    # carrying its whole tolerance into the interval.  With one end and a
+    # two-phase-to-ground fault the phase-to-phase loop locates the fault
+    # free of Z0 and Rg, while the zero-sequence quantities are explained by
+    # Z0, Rg and the sources together: holding Z0 fixed there lets a Z0 error
+    # pull the distance, so the scale is fitted too (for a single-phase fault
+    # one end cannot tell Z0 from the distance; its tolerance stays in the
+    # interval as a held quantity)
+    fit_z0 = code.endswith("G") and (len(ends) >= 2 or two_phase_ground)
     if fit_z0:
         names.append("ln_kz0")
     prob = _Problem(model, line_id, ref, ends, terminals, code, opts, names, groups)

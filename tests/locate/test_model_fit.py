@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import dataclasses
+from pathlib import Path
 
 import numpy as np
 import pytest
@@ -12,6 +13,9 @@ from eventlab.errors import ModelError
 from eventlab.locate.model_fit import FitOptions, computed_phasors, fit_fault
 from eventlab.locate.model_link import phasors_from_solution
 from eventlab.network.faults import FaultSpec, solve_fault
+from eventlab.network.model import load_model, with_source
+
+ROOT = Path(__file__).resolve().parents[2]
 
 
 def _noisy(end, rng, rel):
@@ -92,3 +96,32 @@ def test_interval_covers_instrument_errors_of_the_stated_class():
                         options=opts)
         hits += fit.interval_km[0] <= 58.0 <= fit.interval_km[1]
     assert hits >= 0.8 * trials
+
+
+def _z0_scaled(model, scale):
+    lines = tuple(dataclasses.replace(ln, sections=tuple(dataclasses.replace(
+        s, z0_ohm_per_km=s.z0_ohm_per_km * scale) for s in ln.sections)) for ln in model.lines)
+    return dataclasses.replace(model, lines=lines)
+
+
+@pytest.mark.parametrize("code, fraction", [("ABG", 0.9), ("BCG", 0.7)])
+def test_single_end_two_phase_ground_fit_not_pulled_by_a_z0_error(code, fraction):
+    # the phase-to-phase loop of a two-phase-to-ground fault carries neither
+    # Z0 nor Rg (common practice, no source): with the line Z0 written 5 %
+    # high (one sigma of the stated tolerance), 50 ohm per phase and a strong
+    # remote infeed, the single-ended fit must place the fault within 2 % of
+    # the line (holding Z0 fixed gives about 2.6 % here) and its interval
+    # must hold the truth
+    truth = with_source(load_model(ROOT / "models" / "northmarch_230kv.toml"),
+                        "CARDON_REACH", angle_deg=12.0)
+    written = _z0_scaled(truth, 1.05)
+    line = truth.line("VM-CR1")
+    res = solve_fault(truth, FaultSpec("VM-CR1", fraction, code, 50.0))
+    end = _noisy(phasors_from_solution(res, truth, "VELLMOOR-VM-CR1"),
+                 np.random.default_rng(5), 0.001)
+    fit = fit_fault(written, "VM-CR1", [end], written.terminals_of_line("VM-CR1")[:1],
+                    start_fraction=0.5)
+    d_true = fraction * line.length_km
+    assert abs(fit.distance_km - d_true) < 0.02 * line.length_km
+    assert fit.interval_km[0] <= d_true <= fit.interval_km[1]
+    assert "line Z0" not in fit.sigma_parts_km
