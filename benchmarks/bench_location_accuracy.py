@@ -10,7 +10,10 @@ Case grid: every fault type; remote infeed strong (model as written) and weak
 VELLMOOR; fault resistance 0 to 50 ohm for ground faults (0 to 5 ohm for
 phase faults); 16 to 256 samples per cycle; fault positions 10 % to 90 %;
 several points on wave; 0.1 % noise; the recorder's anti-aliasing filter
-(cut-off 0.3 x the sampling rate).  Each case is located twice: with the true model and
+(cut-off 0.3 x the sampling rate).  The sampling rate and the fault position
+step together through the grid (16 samples per cycle always at 10 %, ... 256
+always at 90 %), so a worst case at 256 samples per cycle is also a fault
+near the far end; read the two together.  Each case is located twice: with the true model and
 with a perturbed model (remote source 30 % weaker, local source 15 % stronger,
 line Z0 5 % higher than the truth).
 
