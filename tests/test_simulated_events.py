@@ -81,3 +81,31 @@ def test_written_record_gives_the_same_timeline(model, tmp_path, data_format):
     dt = 1.0 / (32 * model.system.frequency_hz)
     assert tl.fault_type == "BG"
     assert abs(tl.inception_s - sim.truth.inception_s) <= dt + 1e-9
+
+
+@pytest.mark.parametrize("spc", [64, 256])
+def test_fault_window_current_with_full_offset_matches_solver(spc):
+    # A bolted BC fault at voltage zero (full offset) near the far end, line
+    # capacitance modelled, recorder anti-aliasing at 0.3 fs: the fault-window
+    # currents (offset removed by least squares with the decaying term) agree with
+    # the steady-state currents of the phasor-domain solver (an independent
+    # computation, itself checked against pandapower and power-grid-model) within
+    # 0.3 %.  The mimic filter erred by 1.1 % here at 256 samples a cycle.
+    import numpy as np
+
+    from eventlab.network.faults import FaultSpec, solve_fault
+    from eventlab.network.model import with_source
+
+    root = Path(__file__).parents[1]
+    m = with_source(load_model(root / "models" / "northmarch_230kv.toml"), "CARDON_REACH",
+                    angle_deg=12.0)
+    spec = SimulationSpec("VM-CR1", 0.9, "BC", 0.0, inception_s=0.1, inception_angle_deg=0.0,
+                          relay_time_s=0.03, clear_after_s=0.08, duration_s=0.25,
+                          samples_per_cycle=spc, noise=0.001, seed=7,
+                          anti_alias_hz=0.3 * spc * m.system.frequency_hz)
+    sim = simulate(m, spec)
+    tid = next(t.id for t in m.terminals if t.station == "VELLMOOR")
+    iv = analyze([sim.records[tid]]).terminals[0].timeline.intervals[0]
+    ref = solve_fault(m, FaultSpec("VM-CR1", 0.9, "BC", 0.0)).terminals[tid].i_abc
+    for p in (1, 2):   # the faulted phases B and C
+        assert abs(abs(iv.i_fault[p]) / abs(ref[p]) - 1.0) < 3e-3

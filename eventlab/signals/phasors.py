@@ -284,10 +284,7 @@ def decay_ls_phasors(samples, samples_per_cycle: int, tau_s: float,
     tau_n = float(tau_s) * float(sample_rate_hz)
     if not (np.isfinite(tau_n) and tau_n > 0):
         raise SignalError(f"tau_s={tau_s!r}: expected a positive time constant")
-    m = np.arange(n)
-    th = 2.0 * np.pi * m / n
-    design = np.column_stack([np.cos(th), -np.sin(th), np.exp(-m / tau_n)])
-    pinv = np.linalg.pinv(design)                      # (3, N)
+    pinv = _decay_ls_rows(n, tau_n)                    # (3, N)
     ha = pinv[0][::-1]
     hb = pinv[1][::-1]
     a = lfilter(ha, [1.0], x, axis=-1)
@@ -299,6 +296,55 @@ def decay_ls_phasors(samples, samples_per_cycle: int, tau_s: float,
         out[..., n - 1:] = ((a[..., n - 1:] + 1j * b[..., n - 1:]) / SQRT2
                             * _rotator_at(k - n + 1, n))
     return out
+
+
+def _decay_ls_rows(n: int, tau_n: float) -> np.ndarray:
+    """Pseudo-inverse (3, N) of the one-cycle design ``[cos, -sin, exp(-m / tau)]``."""
+    m = np.arange(n)
+    th = 2.0 * np.pi * m / n
+    return np.linalg.pinv(np.column_stack([np.cos(th), -np.sin(th), np.exp(-m / tau_n)]))
+
+
+def window_phasor_decay_ls(samples, end_index: int, samples_per_cycle: int,
+                           tau_samples: float) -> np.ndarray:
+    """Least-squares phasor with a decaying term of the one window ending at ``end_index``.
+
+    Same value and reference as ``decay_ls_phasors(samples, N, tau_s, fs)[..., end_index]``
+    (``tau_samples = tau_s * fs``), computed on that window only.
+
+    Parameters
+    ----------
+    samples : array_like, shape (..., n)
+        Instantaneous values [A] or [V].
+    end_index : int
+        Last sample of the window (``>= N - 1``).
+    samples_per_cycle : int
+    tau_samples : float
+        Offset time constant [samples].
+
+    Returns
+    -------
+    complex ndarray, shape (...)
+
+    Notes
+    -----
+    Unlike the mimic filter, whose first difference amplifies content above
+    the fundamental by up to ``omega tau`` (so that the ringing of line
+    capacitance leaks into the DFT at high sample rates), the least-squares
+    fit has unit gain for what it does not model (Sachdev and Baribeau 1979,
+    see :func:`decay_ls_phasors`).
+    """
+    x = _as_samples(samples)
+    n = check_samples_per_cycle(samples_per_cycle)
+    k = int(end_index)
+    tau_n = float(tau_samples)
+    if not (np.isfinite(tau_n) and tau_n > 0):
+        raise SignalError(f"tau_samples={tau_samples!r}: expected a positive time constant")
+    if k < n - 1 or k >= x.shape[-1]:
+        raise SignalError(f"window ending at sample {k}: expected {n - 1} <= index < "
+                          f"{x.shape[-1]}")
+    ab = x[..., k - n + 1:k + 1] @ _decay_ls_rows(n, tau_n).T   # (..., 3)
+    return (ab[..., 0] + 1j * ab[..., 1]) / SQRT2 * _rotator_at(np.array([k - n + 1]), n)[0]
 
 
 def estimate_decay_tau(samples, samples_per_cycle: int, sample_rate_hz: float,

@@ -19,7 +19,11 @@ import numpy as np
 from eventlab.errors import SignalError
 from eventlab.faulttypes import NO_FAULT, faulted_phases
 from eventlab.signals.classify import ABC_SAG, ABC_STEP, Classification, classify_fault
-from eventlab.signals.phasors import dft_phasors, estimate_decay_tau, window_phasor
+from eventlab.signals.phasors import (
+    dft_phasors,
+    estimate_decay_tau,
+    window_phasor_decay_ls,
+)
 from eventlab.signals.sequence import sequence_phasors
 from eventlab.signals.windows import Window, fault_window, prefault_window
 from eventlab.symmetrical import abc_to_012
@@ -702,7 +706,9 @@ def _classify_at(t, v, i, v_ph, i_ph, n, fs, k_pre_win, win: Window, tau_s, miti
     v_pre = v_ph[:, k_pre_win.end_index] if k_pre_win is not None else None
     k = win.end_index
     if mitigate and tau_s is not None and k >= n:
-        i_f = window_phasor(i, k, n, tau_samples=tau_s * fs)
+        # least squares with the decaying term: the mimic filter's first difference
+        # would amplify the line's capacitive ringing at high sample rates
+        i_f = window_phasor_decay_ls(i, k, n, tau_s * fs)
     else:
         i_f = i_ph[:, k]
     v_f = v_ph[:, k]
