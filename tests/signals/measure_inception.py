@@ -11,40 +11,19 @@ from __future__ import annotations
 import sys
 import time
 from pathlib import Path
-from types import SimpleNamespace
 
 import numpy as np
 
 sys.path.insert(0, str(Path(__file__).parent))
-from faultwaves import System, fault_event, steady_phasors  # noqa: E402
+from faultwaves import System, fault_event  # noqa: E402
+from inception_cases import inception_instants, timeline_of  # noqa: E402
 
 from eventlab.faulttypes import FAULT_TYPES  # noqa: E402
-from eventlab.signals.timeline import build_timeline  # noqa: E402
-
-
-def inception_times(system: System, t0: float = 0.05):
-    """Inception times near ``t0`` at phase-A voltage zero, +45 deg, peak and +135 deg."""
-    v_pre, _ = steady_phasors(system, 0.5, None)
-    w = 2 * np.pi * system.f0_hz
-    ph = np.angle(v_pre[0])
-    out = {}
-    for name, target in (("zero", np.pi / 2), ("45", np.pi / 2 + np.pi / 4),
-                         ("peak", np.pi), ("135", np.pi + np.pi / 4)):
-        k = np.ceil((w * t0 + ph - target) / (2 * np.pi))
-        out[name] = (target - ph + 2 * np.pi * k) / w
-    return out
-
-
-def run(e):
-    trips = [SimpleNamespace(name="TRIP", values=e["trip"], normal=0)]
-    bkrs = [SimpleNamespace(name="52A", values=e["breaker"], normal=1)]
-    return build_timeline(e["t"], e["v_abc"], e["i_abc"], e["samples_per_cycle"],
-                          trips=trips, breakers=bkrs)
 
 
 def main(quick: bool = False, t0: float = 0.05):
     s = System()
-    incs = inception_times(s, t0)
+    incs = inception_instants(s, t0)
     seeds = range(3 if quick else 5)
     rows = []
     for noise in (0.0, 0.005, 0.01, 0.02):
@@ -57,7 +36,7 @@ def main(quick: bool = False, t0: float = 0.05):
                             e = fault_event(ftype, ti, noise=noise, seed=seed,
                                             samples_per_cycle=n, r_fault_ohm=rf,
                                             duration_s=0.3 + (ti - 0.05))
-                            tl = run(e)
+                            tl = timeline_of(e)
                             cnt += 1
                             if tl.inception_s is None:
                                 errs.append(np.inf)

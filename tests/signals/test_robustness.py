@@ -11,41 +11,20 @@ full grid (all ten types, four inception angles, 16..256 samples a cycle,
 
 from __future__ import annotations
 
-from types import SimpleNamespace
-
 import numpy as np
 import pytest
 from faultwaves import System, fault_event, steady_phasors
+from inception_cases import inception_instants, timeline_of
 
 from eventlab.faulttypes import FAULT_TYPES, NO_FAULT
 from eventlab.signals.classify import classify_fault
 from eventlab.signals.timeline import build_timeline, refine_onset, superimposed
 
 
-def _inceptions(system: System, t0: float = 0.05) -> dict[str, float]:
-    """Instants after ``t0`` at phase-A voltage zero, +45 deg, peak, +135 deg [s]."""
-    v_pre, _ = steady_phasors(system, 0.5, None)
-    w = 2 * np.pi * system.f0_hz
-    ph = np.angle(v_pre[0])
-    out = {}
-    for name, target in (("zero", np.pi / 2), ("45", 0.75 * np.pi), ("peak", np.pi),
-                         ("135", 1.25 * np.pi)):
-        k = np.ceil((w * t0 + ph - target) / (2 * np.pi))
-        out[name] = float((target - ph + 2 * np.pi * k) / w)
-    return out
-
-
-def _timeline(e):
-    trips = [SimpleNamespace(name="TRIP", values=e["trip"], normal=0)]
-    bkrs = [SimpleNamespace(name="52A", values=e["breaker"], normal=1)]
-    return build_timeline(e["t"], e["v_abc"], e["i_abc"], e["samples_per_cycle"],
-                          trips=trips, breakers=bkrs)
-
-
 def test_inception_angles_are_voltage_zero_and_peak():
     s = System()
     v_pre, _ = steady_phasors(s, 0.5, None)
-    inc = _inceptions(s)
+    inc = inception_instants(s)
     w = 2 * np.pi * s.f0_hz
     v_a = np.real(v_pre[0] * np.exp(1j * w * inc["zero"]))
     assert abs(v_a) < 1e-6 * abs(v_pre[0])
@@ -57,11 +36,11 @@ def _errors_ms(noise, n, r_fault_ohm, seeds, types=FAULT_TYPES, t0=0.05):
     s = System()
     errs, wrong = [], []
     for ftype in types:
-        for name, ti in _inceptions(s, t0).items():
+        for name, ti in inception_instants(s, t0).items():
             for seed in seeds:
                 e = fault_event(ftype, ti, noise=noise, seed=seed, samples_per_cycle=n,
                                 r_fault_ohm=r_fault_ohm, duration_s=0.25 + (ti - 0.05))
-                tl = _timeline(e)
+                tl = timeline_of(e)
                 errs.append(np.inf if tl.inception_s is None else abs(tl.inception_s - ti))
                 if tl.fault_type != ftype:
                     wrong.append((ftype, name, seed, tl.fault_type))
@@ -168,7 +147,7 @@ def test_high_resistance_through_the_timeline(noise, ftype):
     rf = 0.0 if len(ftype) == 2 else 100.0
     for seed in (0, 1):
         e = fault_event(ftype, 0.0507, noise=noise, seed=seed, r_fault_ohm=rf)
-        tl = _timeline(e)
+        tl = timeline_of(e)
         assert tl.fault_type == ftype
         assert abs(tl.inception_s - e["truth"]["inception_s"]) <= 1.5e-3
 
