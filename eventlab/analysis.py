@@ -5,8 +5,9 @@ mitigation, frequency tracking when off nominal) -> timeline, windows,
 classification -> :class:`Analysis`, whose ``to_dict()`` is the documented
 JSON (README, "Analysis JSON").
 
-Fields ``location`` and ``comparison`` are reserved for the model-based steps
-(None and () when no network model is given); keys are only ever added.
+With a network model, ``location`` (:class:`~eventlab.locate.api.LocationReport`)
+and ``comparison`` (measured versus computed) are filled by the location step;
+without one they are None and ().  JSON keys are only ever added.
 """
 
 from __future__ import annotations
@@ -587,14 +588,17 @@ def analyze(records: Sequence[Record] | Record, model=None, line: str | None = N
     ----------
     records : Record or sequence of Record
     model : NetworkModel, optional
-        For the model-based steps (location, comparison; not in this version).
+        For the model-based steps: fault location and the measured-versus-computed
+        comparison (:func:`eventlab.locate.locate_event`, one end per faulted
+        record, distances from the first).
         The signal chain takes from it the channel map of the record's
         terminal (:func:`model_terminal`; currents negated for
         ``ct_polarity = "reversed"``) unless ``options.channel_maps`` gives
         one, and the offset time constant of the mimic filter
         (:func:`line_time_constant_s`) when ``options.tau_s`` is not given.
     line : str, optional
-        Line id in ``model`` (reserved).
+        Line id in ``model``: the faulted line (default: found from the first
+        record's station).
     options : AnalysisOptions, optional
 
     Returns
