@@ -279,10 +279,12 @@ def _rate(record: Record) -> tuple[float, int, bool]:
         raise SignalError(f"{where}: record holds {record.n_samples} samples; expected "
                           f"several cycles")
     d = np.diff(t)
-    dt = float(np.median(d))
-    if dt <= 0 or np.max(np.abs(d - dt)) > 0.01 * dt:
-        raise SignalError(f"{where}: sample rate changes within the record; expected one "
-                          f"fixed rate (field samp)")
+    if not np.all(d > 0):
+        k = int(np.flatnonzero(d <= 0)[0])
+        raise SignalError(f"{where}: time does not increase at sample {k + 2}; expected "
+                          f"increasing sample times")
+    # several rate segments (C37.111 nrates > 1): the fastest rate, the rest resampled
+    dt = float(np.median(d)) if _uniform(t) else float(np.min(d))
     fs = 1.0 / dt
     f0 = record.frequency_hz
     if not (f0 and np.isfinite(f0) and f0 > 0):
@@ -292,8 +294,15 @@ def _rate(record: Record) -> tuple[float, int, bool]:
         raise SignalError(f"{where}: {fs:.6g} Hz is {n:.4g} samples per {f0:g} Hz cycle; "
                           f"expected at least 8")
     if abs(n - round(n)) <= 1e-3 * n:
-        return fs, int(round(n)), False
+        return fs, int(round(n)), not _uniform(t)
     return fs, max(16, 4 * int(np.ceil(n / 4.0))), True
+
+
+def _uniform(t: np.ndarray) -> bool:
+    """True when the sample times are evenly spaced (within 1 % of a step)."""
+    d = np.diff(t)
+    dt = float(np.median(d))
+    return bool(dt > 0 and np.max(np.abs(d - dt)) <= 0.01 * dt)
 
 
 def _resampled(term: TerminalChannels, t: np.ndarray, t_new: np.ndarray):
@@ -328,7 +337,7 @@ def _terminal(record: Record, k_rec: int, term: TerminalChannels, n: int, fs: fl
               opts: AnalysisOptions, warnings: list[str]) -> tuple[TerminalAnalysis, float | None,
                                                                    bool]:
     f0 = record.frequency_hz
-    if abs(fs - n * f0) > 1e-6 * fs:
+    if abs(fs - n * f0) > 1e-6 * fs or not _uniform(record.time):
         t = np.arange(int(np.floor(record.time[-1] * n * f0)) + 1) / (n * f0)
         v, i, trips, bkrs = _resampled(term, record.time, t)
         fs = n * f0
@@ -626,7 +635,12 @@ def analyze(records: Sequence[Record] | Record, model=None, line: str | None = N
     for k, rec in enumerate(records):
         fs, n, resampled = _rate(rec)
         spc[k] = n
-        if resampled:
+        if resampled and not _uniform(rec.time):
+            warnings.append(f"record {k}: the sample rate changes within the record "
+                            f"({', '.join(f'{r.samp_hz:g} Hz' for r in rec.rates)}); "
+                            f"resampled to {n} per cycle ({n * rec.frequency_hz:g} Hz) for "
+                            f"the phasors and the timeline")
+        elif resampled:
             warnings.append(f"record {k}: {fs:g} Hz is not a whole number of samples per "
                             f"{rec.frequency_hz:g} Hz cycle; resampled to {n} per cycle "
                             f"({n * rec.frequency_hz:g} Hz) for the phasors and the timeline")

@@ -91,7 +91,6 @@ def test_fault_window_current_with_full_offset_matches_solver(spc):
     # the steady-state currents of the phasor-domain solver (an independent
     # computation, itself checked against pandapower and power-grid-model) within
     # 0.3 %.  The mimic filter erred by 1.1 % here at 256 samples a cycle.
-    import numpy as np
 
     from eventlab.network.faults import FaultSpec, solve_fault
     from eventlab.network.model import with_source
@@ -109,3 +108,32 @@ def test_fault_window_current_with_full_offset_matches_solver(spc):
     ref = solve_fault(m, FaultSpec("VM-CR1", 0.9, "BC", 0.0)).terminals[tid].i_abc
     for p in (1, 2):   # the faulted phases B and C
         assert abs(abs(iv.i_fault[p]) / abs(ref[p]) - 1.0) < 3e-3
+
+
+def test_two_rate_record_is_resampled_and_timed(model, tmp_path):
+    # C37.111 allows several sample-rate segments (nrates > 1, clause 6.7): here
+    # 7680 Hz up to 0.2 s, then every fourth sample (1920 Hz), written with the
+    # record layer (time stamps, nrates = 0) and read back.  The analysis works on
+    # the fastest rate, resampled, and times the fault as on the original record.
+    import numpy as np
+
+    from eventlab.records import read_record, write_record
+    from eventlab.records.build import make_record
+
+    spec = SimulationSpec(line="L1", fraction=0.37, type="CG", r_fault_ohm=2.0,
+                          inception_angle_deg=60.0, clear_after_s=0.08, duration_s=0.3,
+                          samples_per_cycle=128, seed=11)
+    sim = simulate(model, spec)
+    (rec,) = sim.records.values()
+    t = rec.time
+    keep = np.flatnonzero((t <= 0.2) | (np.arange(t.size) % 4 == 0))
+    analog = [(c.name, c.phase, c.unit, c.values[keep], c.circuit) for c in rec.analog]
+    status = [(c.name, c.values[keep], c.circuit) for c in rec.status]
+    two = make_record(rec.station, t[keep], analog, status, frequency_hz=rec.frequency_hz)
+    paths = write_record(two, tmp_path / "two_rate", data_format="BINARY")
+    back = read_record(next(p for p in paths if p.suffix == ".cfg"))
+    a = analyze([back])
+    tl = a.terminals[0].timeline
+    assert any("sample rate changes" in w for w in a.warnings)
+    assert tl.fault_type == "CG"
+    assert abs(tl.inception_s - sim.truth.inception_s) <= 1.0 / 7680 + 1e-9
