@@ -56,8 +56,10 @@ class AnalysisOptions:
     """Options of :func:`analyze` (all optional).
 
     ``filter``: phasor filter kind for the whole-record phasors ("full",
-    "half", "cosine"); ``mitigate_offset``: fault-window currents through the
-    mimic filter; ``tau_s``: offset time constant [s] (None: estimated);
+    "half", "cosine"); ``mitigate_offset``: fault-window currents by least
+    squares with a decaying offset term; ``tau_s``: the offset's time constant
+    [s] (None: fitted per phase in the fault window,
+    :func:`~eventlab.signals.phasors.window_phasor_fitted_decay`);
     ``track_frequency``: re-estimate phasors with tracking when the pre-fault
     frequency is off nominal by more than 0.05 Hz; ``channel_maps``: per
     record (by index) a role -> channel-name map for
@@ -563,32 +565,6 @@ def _reversed_currents(term: TerminalChannels) -> TerminalChannels:
                    parallel_residual=neg(term.parallel_residual))
 
 
-def line_time_constant_s(model, line: str | None) -> float | None:
-    """Offset time constant [s] from the positive-sequence X/R of a model line.
-
-    ``tau = X1 / (2 pi f R1)`` of line ``line`` (or of the model's only line);
-    None when the line is not given and the model has several, or R1 is zero.
-
-    Notes
-    -----
-    The decaying offset of a fault current through an R-L circuit has the
-    time constant L/R = X/(omega R) (IEC 60909-0:2016 clause 4.3.1.1 uses the
-    same R/X ratio for the peak current factor kappa).
-    """
-    lines = tuple(getattr(model, "lines", ()))
-    if line is not None:
-        ln = model.line(line)
-    elif len(lines) == 1:
-        ln = lines[0]
-    else:
-        return None
-    z1 = complex(ln.z1_ohm)
-    f_hz = float(model.system.frequency_hz)
-    if z1.real <= 0 or z1.imag <= 0 or f_hz <= 0:
-        return None
-    return float(z1.imag / (2.0 * np.pi * f_hz * z1.real))
-
-
 def analyze(records: Sequence[Record] | Record, model=None, line: str | None = None,
             options: AnalysisOptions | None = None) -> Analysis:
     """Run the signal chain on one record or several (e.g. the two ends of a line).
@@ -603,8 +579,7 @@ def analyze(records: Sequence[Record] | Record, model=None, line: str | None = N
         The signal chain takes from it the channel map of the record's
         terminal (:func:`model_terminal`; currents negated for
         ``ct_polarity = "reversed"``) unless ``options.channel_maps`` gives
-        one, and the offset time constant of the mimic filter
-        (:func:`line_time_constant_s`) when ``options.tau_s`` is not given.
+        one.
     line : str, optional
         Line id in ``model``: the faulted line (default: found from the first
         record's station).
@@ -622,11 +597,6 @@ def analyze(records: Sequence[Record] | Record, model=None, line: str | None = N
     if not records:
         raise SignalError("analyze: no record given; expected at least one")
     opts = options if options is not None else AnalysisOptions()
-    tau_from_model = None
-    if model is not None and opts.tau_s is None:
-        tau_from_model = line_time_constant_s(model, line)
-        if tau_from_model is not None:
-            opts = replace(opts, tau_s=tau_from_model)
     infos = []
     terms: list[TerminalAnalysis] = []
     warnings: list[str] = []
@@ -686,9 +656,6 @@ def analyze(records: Sequence[Record] | Record, model=None, line: str | None = N
                    0 if terms else None)
     location = None
     if model is not None:
-        if tau_from_model is not None:
-            warnings.append(f"offset time constant {1e3 * tau_from_model:.1f} ms from the "
-                            f"line's X/R")
         location = _locate(records, terms, model, line, model_terms, spc, opts, warnings)
     comparison = ()
     if location is not None and location.comparison is not None:

@@ -21,8 +21,8 @@ from eventlab.faulttypes import NO_FAULT, faulted_phases
 from eventlab.signals.classify import ABC_SAG, ABC_STEP, Classification, classify_fault
 from eventlab.signals.phasors import (
     dft_phasors,
-    estimate_decay_tau,
     window_phasor_decay_ls,
+    window_phasor_fitted_decay,
 )
 from eventlab.signals.sequence import sequence_phasors
 from eventlab.signals.windows import Window, fault_window, prefault_window
@@ -92,7 +92,8 @@ class FaultInterval:
     fault: Window
     pole_open_s: tuple[float | None, float | None, float | None]
     cleared_by_poles: bool
-    tau_s: float | None             # offset time constant used for the fault window [s]
+    tau_s: float | None             # offset time constant of the fault window [s] (given, or
+                                    # fitted on the phase with the largest offset)
     i_prefault: np.ndarray = field(repr=False, compare=False)   # (3,) [A]
     v_prefault: np.ndarray = field(repr=False, compare=False)   # (3,) [V]
     i_fault: np.ndarray = field(repr=False, compare=False)
@@ -547,9 +548,9 @@ def build_timeline(time_s, v_abc, i_abc, samples_per_cycle: int, *,
     v_ph, i_ph : complex (3, n), optional
         Full-cycle DFT phasors if already computed (else computed here).
     mitigate_offset : bool
-        Fault-window current phasors through the mimic filter (time constant
-        ``tau_s`` if given, e.g. from the line's X/R, else estimated from the
-        record, see :func:`~eventlab.signals.phasors.estimate_decay_tau`).
+        Fault-window current phasors by least squares with a decaying offset
+        term: time constant ``tau_s`` if given, else fitted per phase in the
+        window (:func:`~eventlab.signals.phasors.window_phasor_fitted_decay`).
     tau_s : float, optional
         Offset time constant [s].
     cycle_samples : float, optional
@@ -705,10 +706,16 @@ def _classify_at(t, v, i, v_ph, i_ph, n, fs, k_pre_win, win: Window, tau_s, miti
     i_pre = i_ph[:, k_pre_win.end_index] if k_pre_win is not None else np.zeros(3, complex)
     v_pre = v_ph[:, k_pre_win.end_index] if k_pre_win is not None else None
     k = win.end_index
+    tau_used = None
     if mitigate and tau_s is not None and k >= n:
         # least squares with the decaying term: the mimic filter's first difference
         # would amplify the line's capacitive ringing at high sample rates
         i_f = window_phasor_decay_ls(i, k, n, tau_s * fs)
+        tau_used = tau_s
+    elif mitigate and k >= n - 1:
+        # each phase its own time constant (the offset's differs from phase to phase)
+        i_f, taus, offs = window_phasor_fitted_decay(i, k, n)
+        tau_used = float(taus[int(np.argmax(np.abs(offs)))] / fs)
     else:
         i_f = i_ph[:, k]
     v_f = v_ph[:, k]
@@ -717,7 +724,8 @@ def _classify_at(t, v, i, v_ph, i_ph, n, fs, k_pre_win, win: Window, tau_s, miti
     c = classify_fault(i_pre, i_f, v_pre, None if v_pre is None else v_f,
                        min_current_a=floors[0], noise_floor_a=floors[1],
                        noise_floor_v=floors[2])
-    return c, i_pre, v_pre if v_pre is not None else np.zeros(3, complex), i_f, v_f
+    return (c, i_pre, v_pre if v_pre is not None else np.zeros(3, complex), i_f, v_f,
+            tau_used)
 
 
 def _stages(t, v, i, v_ph, i_ph, n, fs, k_on, run_end, poles, kind, mitigate, tau_given,
@@ -737,12 +745,9 @@ def _stages(t, v, i, v_ph, i_ph, n, fs, k_on, run_end, poles, kind, mitigate, ta
             opens[p] = e.index
     first_open = min([k for k in opens if k is not None], default=None)
     stop = first_open if first_open is not None else min(run_end, n_t)
-    tau = tau_given
-    if mitigate and tau is None:
-        tau = estimate_decay_tau(i, n, fs, k_on + 1) if stop - k_on >= 2 * n else None
     win = fault_window(t, k_on, stop, n)
-    c, i_pre, v_pre, i_f, v_f = _classify_at(t, v, i, v_ph, i_ph, n, fs, pre, win, tau, mitigate,
-                                             floors)
+    c, i_pre, v_pre, i_f, v_f, tau = _classify_at(t, v, i, v_ph, i_ph, n, fs, pre, win,
+                                                  tau_given, mitigate, floors)
     if win.flagged:
         flags.append(f"fault at {t[k_on]:.4f} s: {win.note}")
     # evolving fault: classify each half cycle after the fault window, before the opening
@@ -771,14 +776,15 @@ def _stages(t, v, i, v_ph, i_ph, n, fs, k_on, run_end, poles, kind, mitigate, ta
                 if len(bounds) == 1 and bounds[0][2].end_index >= k_ev - 1:
                     # the first stage's window reached into the next stage: redo it
                     w1 = fault_window(t, k_on, k_ev, n)
-                    c1, _, _, i1, v1 = _classify_at(t, v, i, v_ph, i_ph, n, fs, pre, w1,
-                                                    tau, mitigate, floors)
+                    c1, _, _, i1, v1, tau1 = _classify_at(t, v, i, v_ph, i_ph, n, fs, pre,
+                                                          w1, tau_given, mitigate, floors)
                     if c1.type != NO_FAULT:
                         bounds[0] = (k_on, c1, w1, i1, v1)
                         cur = c1.type
+                        tau = tau1
                 w2 = fault_window(t, k_ev, stop, n, settle_cycles=0.5)
-                c2, _, _, i2, v2 = _classify_at(t, v, i, v_ph, i_ph, n, fs, pre, w2, None,
-                                                False, floors)
+                c2, _, _, i2, v2, _ = _classify_at(t, v, i, v_ph, i_ph, n, fs, pre, w2, None,
+                                                   False, floors)
                 if c2.type == NO_FAULT or c2.type == cur:
                     c2 = ck
                 bounds.append((k_ev, c2, w2, i2, v2))

@@ -17,6 +17,8 @@ from eventlab.signals.phasors import (
     mimic_phasors,
     moving_rms,
     window_length,
+    window_phasor_decay_ls,
+    window_phasor_fitted_decay,
 )
 
 # IEEE C37.118.1-2011 clause 5.3 (steady-state compliance), Table 3: TVE limit 1 %
@@ -109,6 +111,38 @@ def test_decaying_offset_mitigated(n, tau_s, capsys):
         assert e <= 0.02, name
     # the unmitigated filter really is biased by the offset (so the check can fail)
     assert plain > 0.02
+
+
+@pytest.mark.parametrize("n", [16, 64, 256])
+def test_fitted_offset_time_constant_per_phase(n):
+    # three phases whose offsets decay with different time constants (a line end fed
+    # from two sources of different X/R); reference: the generating phasors, and the
+    # full-cycle DFT of the same window computed by numpy.fft
+    f0 = 60.0
+    fs = n * f0
+    taus = np.array([0.012, 0.035, 0.090])
+    mags = np.array([900.0, 350.0, 2000.0])
+    phis = np.array([0.4, -2.0, 2.3])
+    offs = np.array([700.0, -150.0, -1800.0])
+    k0 = 2 * n
+    t = np.arange(6 * n) / fs
+    tp = np.clip(t - t[k0], 0.0, None)
+    on = t >= t[k0]
+    x = mags[:, None] * np.cos(2 * np.pi * f0 * t + phis[:, None])
+    x = x + on * offs[:, None] * np.exp(-tp / taus[:, None])
+    end = k0 + 2 * n - 1                         # the window one cycle after inception
+    ph, tau_n, off = window_phasor_fitted_decay(x, end, n)
+    want = mags / np.sqrt(2) * np.exp(1j * phis)
+    np.testing.assert_allclose(ph, want, rtol=1e-6)
+    np.testing.assert_allclose(tau_n / fs, taus, rtol=1e-4)
+    np.testing.assert_allclose(off, offs * np.exp(-n / (taus * fs)), rtol=1e-4)
+    # one time constant for all three (the largest offset's) leaves the others off
+    one = window_phasor_decay_ls(x, end, n, taus[2] * fs)
+    assert np.max(np.abs(one / want - 1)) > 0.01
+    # the plain DFT of that window (numpy.fft, same reference) is further off still
+    seg = x[:, end - n + 1:end + 1]
+    dft = np.sqrt(2) / n * np.fft.fft(seg, axis=-1)[:, 1] * np.exp(2j * np.pi * (end - n + 1) / n)
+    assert np.max(np.abs(dft / want - 1)) > np.max(np.abs(ph / want - 1)) + 0.01
 
 
 def test_mimic_keeps_steady_phasor():
