@@ -36,6 +36,7 @@ from eventlab.signals.phasors import (
     FilterKind,
     check_filter_kind,
     dft_phasors,
+    fault_window_current,
     moving_rms,
     window_phasor,
 )
@@ -426,7 +427,11 @@ def _terminal(record: Record, k_rec: int, term: TerminalChannels, n: int, fs: fl
             x = np.asarray(ch.values, dtype=float)
             if kp is not None:
                 pre[name] = complex(window_phasor(x, kp, n))
-            flt[name] = complex(window_phasor(x, kf, n))
+            if ch is not term.neutral_voltage and opts.mitigate_offset and kf >= n - 1:
+                # residual currents: the same offset removal as the phase currents
+                flt[name] = complex(fault_window_current(x, kf, n, fs, opts.tau_s)[0])
+            else:
+                flt[name] = complex(window_phasor(x, kf, n))
         rv = moving_rms(np.vstack([v, i]), n)
         for p, name in enumerate(names_v + names_i):
             if kp is not None:
@@ -680,10 +685,13 @@ def _locate(records: Sequence[Record], terms: Sequence[TerminalAnalysis], model,
             continue
         iv = ta.timeline.intervals[0]
         mt = model_terms.get(k)
+        ip_name = ta.channels.get("IP")
+        i_par = ta.fault.get(ip_name) if ip_name is not None else None
         ends.append(from_fault_interval(
             iv, station=rec.station, frequency_hz=rec.frequency_hz,
             terminal_id=mt.id if mt is not None else None, record_start=rec.start,
-            time0_s=0.0, samples_per_cycle=spc.get(k)))
+            time0_s=0.0, samples_per_cycle=spc.get(k),
+            i_parallel_residual=None if i_par is None or not np.isfinite(i_par) else i_par))
     if not ends:
         warnings.append("location: no fault in the records, nothing to locate")
         return None

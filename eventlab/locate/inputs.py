@@ -116,8 +116,11 @@ class TerminalPhasors:
     def rotated(self, angle_rad: float) -> TerminalPhasors:
         """The same end with every phasor multiplied by ``exp(j angle_rad)``."""
         r = np.exp(1j * angle_rad)
+        i_par = None if self.i_parallel_residual is None else complex(
+            self.i_parallel_residual * r)
         return replace(self, v_pre=self.v_pre * r, i_pre=self.i_pre * r,
-                       v_fault=self.v_fault * r, i_fault=self.i_fault * r)
+                       v_fault=self.v_fault * r, i_fault=self.i_fault * r,
+                       i_parallel_residual=i_par)
 
 
 def from_fault_interval(interval, *, station: str, frequency_hz: float,

@@ -5,6 +5,8 @@ terminal ("from" end).  Cumulative impedances ``Z1(d)``, ``Z0(d)`` are piecewise
 linear in the distance ``d`` [km]; every locator below works on them, so
 non-homogeneous lines (mixed overhead / cable, different conductors) are
 handled along the route.  Shunt capacitance is neglected (short-line model).
+Zero-sequence mutual coupling with one parallel circuit, uniform along the
+route (``z0m_ohm_per_km``), adds ``Z0m(d) I0,parallel`` to a ground loop's drop.
 """
 
 from __future__ import annotations
@@ -25,7 +27,9 @@ class LineData(SectionTotals):
     ``sections`` (:class:`eventlab.network.model.LineSection`) run from
     ``from_terminal`` to ``to_terminal``; ``structures``
     (:class:`eventlab.network.model.Structure`) carry distances from
-    ``from_terminal`` too.
+    ``from_terminal`` too.  ``z0m_ohm_per_km`` is the zero-sequence mutual
+    impedance with a parallel circuit [ohm/km] over the whole route (0: none);
+    ``parallel_line`` names that circuit.
     """
 
     line_id: str
@@ -33,6 +37,8 @@ class LineData(SectionTotals):
     from_terminal: str | None = None
     to_terminal: str | None = None
     structures: tuple[Structure, ...] = ()
+    z0m_ohm_per_km: complex = 0j
+    parallel_line: str | None = None
 
     def __post_init__(self) -> None:
         if not self.sections:
@@ -73,6 +79,10 @@ class LineData(SectionTotals):
             start = end
         return complex(z1), complex(z0)  # pragma: no cover
 
+    def z0m_to(self, d_km: float) -> complex:
+        """Zero-sequence mutual impedance [ohm] from the from-end to ``d_km``."""
+        return complex(self.z0m_ohm_per_km) * float(d_km)
+
     def section_index(self, d_km: float) -> int:
         """Index of the section holding ``d_km`` (clamped to the ends)."""
         b = self.boundaries_km()
@@ -89,6 +99,8 @@ class LineData(SectionTotals):
             structures=tuple(sorted(
                 (Structure(s.structure, length - s.distance_km, s.latitude, s.longitude)
                  for s in self.structures), key=lambda s: s.distance_km)),
+            z0m_ohm_per_km=self.z0m_ohm_per_km,
+            parallel_line=self.parallel_line,
         )
 
     def scaled(self, z1_scale: complex = 1.0, z0_scale: complex = 1.0) -> LineData:
@@ -96,7 +108,8 @@ class LineData(SectionTotals):
         return LineData(self.line_id, tuple(
             dataclasses.replace(s, z1_ohm_per_km=s.z1_ohm_per_km * z1_scale,
                                 z0_ohm_per_km=s.z0_ohm_per_km * z0_scale)
-            for s in self.sections), self.from_terminal, self.to_terminal, self.structures)
+            for s in self.sections), self.from_terminal, self.to_terminal, self.structures,
+            self.z0m_ohm_per_km * z0_scale, self.parallel_line)
 
 
 def homogeneous_line(line_id: str, length_km: float, z1_ohm_per_km: complex,
@@ -116,7 +129,10 @@ def line_data(line: Line, from_bus: str | None = None, *, from_terminal: str | N
     if from_bus is not None and from_bus not in (line.from_bus, line.to_bus):
         raise ModelError(f"line {line.id}: bus {from_bus!r} is not one of its ends "
                          f"({line.from_bus}, {line.to_bus})")
-    ld = LineData(line.id, tuple(line.sections), structures=tuple(line.structures))
+    mutual = getattr(line, "mutual", None)
+    ld = LineData(line.id, tuple(line.sections), structures=tuple(line.structures),
+                  z0m_ohm_per_km=complex(mutual.z0m_ohm_per_km) if mutual is not None else 0j,
+                  parallel_line=mutual.line if mutual is not None else None)
     if from_bus is not None and from_bus == line.to_bus:
         ld = ld.reversed()
     return dataclasses.replace(ld, from_terminal=from_terminal, to_terminal=to_terminal)

@@ -17,6 +17,14 @@ the faulted phase's ground loop; phase-to-phase and two-phase-to-ground
 faults use the loop between the two faulted phases (its drop and fault
 voltage do not involve the ground path); three-phase faults use the
 positive-sequence loop.
+
+Mutual coupling (zero sequence, a parallel circuit over the whole route):
+the ground loop's drop gains ``Z0m(d) I0,par`` with ``I0,par`` the
+zero-sequence current into the parallel circuit at the same bus, so the
+compensated current becomes ``I_p + k0 3 I0 + k0m 3 I0,par`` with
+``k0m = Z0m / (3 Z1)`` (mutual coupling compensation of ground distance
+elements; IEEE Std C37.114-2014, from memory).  Phase loops have no
+zero-sequence term and are unaffected.
 """
 
 from __future__ import annotations
@@ -93,11 +101,27 @@ def loop_drop_currents(i_abc: np.ndarray, loop: LoopSpec) -> tuple[complex, comp
     return loop_current(i, loop), 0j
 
 
-def loop_drop(line: LineData, d_km: float, i_abc: np.ndarray, loop: LoopSpec) -> complex:
-    """Voltage drop [V] of the loop from the line's from-end to ``d_km``."""
+def mutual_drop_current(i_parallel_residual: complex | None, loop: LoopSpec) -> complex:
+    """Current ``i_zm`` [A] multiplying ``Z0m(d)`` in the loop's drop.
+
+    ``I0,par = 3 I0,par / 3`` for ground loops (the parallel circuit's
+    residual current into it at the same bus), zero for phase loops and when
+    the parallel circuit's current is not recorded.
+    """
+    if loop.kind != "ground" or i_parallel_residual is None:
+        return 0j
+    return complex(i_parallel_residual) / 3.0
+
+
+def loop_drop(line: LineData, d_km: float, i_abc: np.ndarray, loop: LoopSpec,
+              i_zm: complex = 0j) -> complex:
+    """Voltage drop [V] of the loop from the line's from-end to ``d_km``.
+
+    ``i_zm``: see :func:`mutual_drop_current`.
+    """
     i_z1, i_z0 = loop_drop_currents(i_abc, loop)
     z1, z0 = line.z_to(d_km)
-    return z1 * i_z1 + z0 * i_z0
+    return z1 * i_z1 + z0 * i_z0 + line.z0m_to(d_km) * i_zm
 
 
 def compensated_current(i_abc: np.ndarray, loop: LoopSpec, k0: complex) -> complex:

@@ -142,22 +142,30 @@ def source_impedances(model: NetworkModel, bus: str) -> tuple[complex, complex]:
 def phasors_from_solution(result: FaultResult, model: NetworkModel, terminal_id: str,
                           *, station: str | None = None, keep_id: bool = True,
                           inception_s: float | None = None, phasor_time_s: float | None = None,
-                          record_start=None, samples_per_cycle: int | None = None
-                          ) -> TerminalPhasors:
+                          record_start=None, samples_per_cycle: int | None = None,
+                          parallel_terminal_id: str | None = None) -> TerminalPhasors:
     """Fault-solver phasors of one terminal as a :class:`TerminalPhasors` (for tests, studies).
 
     Currents are returned into the line whatever the terminal's ``ct_polarity``.
+    ``parallel_terminal_id``: the terminal of the mutually coupled parallel
+    circuit at the same bus, whose residual current ``IA + IB + IC`` becomes
+    ``i_parallel_residual``.
     """
     st = result.terminals[terminal_id]
     t = model.terminal(terminal_id)
     sign = -1.0 if t.ct_polarity == "reversed" else 1.0
+    i_par = None
+    if parallel_terminal_id is not None:
+        tp = model.terminal(parallel_terminal_id)
+        sp = -1.0 if tp.ct_polarity == "reversed" else 1.0
+        i_par = complex(sp * np.sum(result.terminals[parallel_terminal_id].i_abc))
     return TerminalPhasors(
         terminal_id=terminal_id if keep_id else None, station=station or t.station,
         v_pre=st.v_abc_pre, i_pre=sign * st.i_abc_pre, v_fault=st.v_abc,
         i_fault=sign * st.i_abc,
         frequency_hz=model.system.frequency_hz, fault_type=result.spec.type,
         inception_s=inception_s, phasor_time_s=phasor_time_s, record_start=record_start,
-        samples_per_cycle=samples_per_cycle)
+        samples_per_cycle=samples_per_cycle, i_parallel_residual=i_par)
 
 
 def distribution_angle(model: NetworkModel, line_id: str, terminal: Terminal,

@@ -13,8 +13,11 @@ resistive term:
     Im[(V_loop - dV_loop(d)) conj(I_ref)] = 0                               (2)
 
 which is linear in ``d`` within each homogeneous section, so sectioned lines
-are solved section by section along the route.  Shunt capacitance and mutual
-coupling to parallel circuits are neglected.
+are solved section by section along the route.  Shunt capacitance is
+neglected.  Zero-sequence mutual coupling to a parallel circuit is
+compensated in the drop (``+ Z0m(d) I0,par``, see :mod:`eventlab.locate.loops`)
+when the end's ``i_parallel_residual`` is recorded; without it the methods
+say so in their notes.
 """
 
 from __future__ import annotations
@@ -37,6 +40,7 @@ from .loops import (
     loop_drop,
     loop_drop_currents,
     loop_voltage,
+    mutual_drop_current,
     select_loop,
     superimposed_fault_factor,
 )
@@ -45,14 +49,16 @@ _TINY_A = 1e-9
 
 
 def _solve_along_route(line: LineData, v_loop: complex, i_z1: complex, i_z0: complex,
-                       reference: Callable[[LineSection], complex]) -> float:
+                       reference: Callable[[LineSection], complex],
+                       i_zm: complex = 0j) -> float:
     """Solve (2) section by section; extrapolate beyond the ends if needed [km]."""
     bounds = line.boundaries_km()
     candidates: list[tuple[float, float, float]] = []
+    zm = complex(line.z0m_ohm_per_km)
     for k, sec in enumerate(line.sections):
         z1a, z0a = line.z_to(bounds[k])
-        a = z1a * i_z1 + z0a * i_z0
-        b = sec.z1_ohm_per_km * i_z1 + sec.z0_ohm_per_km * i_z0
+        a = z1a * i_z1 + z0a * i_z0 + zm * bounds[k] * i_zm
+        b = sec.z1_ohm_per_km * i_z1 + sec.z0_ohm_per_km * i_z0 + zm * i_zm
         r = np.conj(reference(sec))
         den = (b * r).imag
         if abs(den) < 1e-300:
@@ -69,9 +75,23 @@ def _solve_along_route(line: LineData, v_loop: complex, i_z1: complex, i_z0: com
     return first[0] if first[1] < 0 else candidates[-1][0]
 
 
+def _mutual(end: TerminalPhasors, line: LineData, loop: LoopSpec
+            ) -> tuple[complex, tuple[str, ...]]:
+    """``i_zm`` of the end's loop and a note on the mutual coupling compensation."""
+    if loop.kind != "ground" or line.z0m_ohm_per_km == 0:
+        return 0j, ()
+    if end.i_parallel_residual is None:
+        return 0j, (f"mutual coupling with {line.parallel_line or 'the parallel circuit'} not "
+                    f"compensated: its residual current is not in the record",)
+    return (mutual_drop_current(end.i_parallel_residual, loop),
+            (f"mutual coupling with {line.parallel_line or 'the parallel circuit'} "
+             f"compensated (k0m 3 I0,par)",))
+
+
 def _estimate(method: str, end: TerminalPhasors, line: LineData, d_km: float,
               loop: LoopSpec, r_fault: float | None, notes: tuple[str, ...],
               extra: dict | None = None) -> LocatorEstimate:
+    notes = notes + _mutual(end, line, loop)[1]
     return LocatorEstimate(method=method, distance_km=float(d_km), length_km=line.length_km,
                            terminal=end.terminal_id or line.from_terminal,
                            fault_resistance_ohm=r_fault,
@@ -105,9 +125,11 @@ def reactance(end: TerminalPhasors, line: LineData) -> LocatorEstimate:
     loop = select_loop(end.fault_type)
     v = loop_voltage(end.v_fault, loop)
     i_z1, i_z0 = loop_drop_currents(end.i_fault, loop)
+    i_zm = _mutual(end, line, loop)[0]
     d = _solve_along_route(
         line, v, i_z1, i_z0,
-        lambda s: i_z1 + (s.z0_ohm_per_km / s.z1_ohm_per_km) * i_z0)
+        lambda s: i_z1 + (s.z0_ohm_per_km * i_z0 + line.z0m_ohm_per_km * i_zm) / s.z1_ohm_per_km,
+        i_zm)
     return _estimate("reactance", end, line, d, loop, None,
                      ("fault current assumed in phase with the local loop current",))
 
@@ -133,7 +155,7 @@ def takagi(end: TerminalPhasors, line: LineData) -> LocatorEstimate:
     if abs(d_i) < _TINY_A:
         raise SignalError("takagi: superimposed loop current is zero; expected pre-fault "
                           "phasors different from the fault-window phasors")
-    d = _solve_along_route(line, v, i_z1, i_z0, lambda s: d_i)
+    d = _solve_along_route(line, v, i_z1, i_z0, lambda s: d_i, _mutual(end, line, loop)[0])
     return _estimate("takagi", end, line, d, loop, None,
                      ("superimposed current assumed in phase with the fault current",))
 
@@ -190,7 +212,7 @@ def modified_takagi(end: TerminalPhasors, line: LineData,
     if abs(base) < _TINY_A:
         raise SignalError(f"modified_takagi: reference current of loop {loop.name} is zero")
     ref = base * np.exp(-1j * (distribution_angle_rad + phi))
-    d = _solve_along_route(line, v, i_z1, i_z0, lambda s: ref)
+    d = _solve_along_route(line, v, i_z1, i_z0, lambda s: ref, _mutual(end, line, loop)[0])
     return _estimate("modified_takagi", end, line, d, loop, None,
                      (f"angle correction {np.degrees(distribution_angle_rad):.2f} deg",),
                      {"angle_correction_deg": float(np.degrees(distribution_angle_rad))})
@@ -250,13 +272,14 @@ def eriksson(end: TerminalPhasors, line: LineData, z_local: tuple[complex, compl
     if abs(d_i) < _TINY_A:
         raise SignalError("eriksson: superimposed loop current is zero")
     length = line.length_km
+    i_zm = _mutual(end, line, loop)[0]
 
     def dist(d):
         d1, d0 = distribution_factors(line, d, z_local, z_remote)
         return superimposed_fault_factor(loop, d1, d0)
 
     def f(d):
-        return ((v - loop_drop(line, d, end.i_fault, loop)) * dist(d) * np.conj(d_i)).imag
+        return ((v - loop_drop(line, d, end.i_fault, loop, i_zm)) * dist(d) * np.conj(d_i)).imag
 
     grid = np.linspace(-0.25 * length, 1.25 * length, 301)
     vals = np.array([f(d) for d in grid])
@@ -272,7 +295,7 @@ def eriksson(end: TerminalPhasors, line: LineData, z_local: tuple[complex, compl
         d = min(inside, key=lambda r: abs(r - d_t))
     else:
         d = min(roots, key=lambda r: min(abs(r), abs(r - length)))
-    r_loop = float(((v - loop_drop(line, d, end.i_fault, loop)) * dist(d) / d_i).real)
+    r_loop = float(((v - loop_drop(line, d, end.i_fault, loop, i_zm)) * dist(d) / d_i).real)
     return _estimate("eriksson", end, line, d, loop,
                      fault_resistance_from_loop(end.fault_type, r_loop),
                      ("two-source network with the model's source impedances",))

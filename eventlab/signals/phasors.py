@@ -438,6 +438,24 @@ def window_phasor_fitted_decay(samples, end_index: int, samples_per_cycle: int
     return ph.reshape(shape), taus.reshape(shape), offs.reshape(shape)
 
 
+def fault_window_current(samples, end_index: int, samples_per_cycle: int,
+                         sample_rate_hz: float, tau_s: float | None = None
+                         ) -> tuple[np.ndarray, float | None]:
+    """Fault-window current phasor(s) with the decaying offset removed, as the timeline uses.
+
+    ``tau_s`` given: :func:`window_phasor_decay_ls` with that time constant;
+    else :func:`window_phasor_fitted_decay` (each channel its own).  Returns
+    the phasor(s) [A] and the time constant [s] used (given, or the fitted one
+    of the channel with the largest offset).
+    """
+    fs = float(sample_rate_hz)
+    if tau_s is not None:
+        return window_phasor_decay_ls(samples, end_index, samples_per_cycle, tau_s * fs), tau_s
+    ph, taus, offs = window_phasor_fitted_decay(samples, end_index, samples_per_cycle)
+    k = int(np.argmax(np.abs(np.atleast_1d(offs))))
+    return ph, float(np.atleast_1d(taus)[k] / fs)
+
+
 def estimate_decay_tau(samples, samples_per_cycle: int, sample_rate_hz: float,
                        start: int) -> float | None:
     """Time constant [s] of a decaying offset that begins near sample ``start``.

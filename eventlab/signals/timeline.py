@@ -21,8 +21,7 @@ from eventlab.faulttypes import NO_FAULT, faulted_phases
 from eventlab.signals.classify import ABC_SAG, ABC_STEP, Classification, classify_fault
 from eventlab.signals.phasors import (
     dft_phasors,
-    window_phasor_decay_ls,
-    window_phasor_fitted_decay,
+    fault_window_current,
 )
 from eventlab.signals.sequence import sequence_phasors
 from eventlab.signals.windows import Window, fault_window, prefault_window
@@ -707,15 +706,11 @@ def _classify_at(t, v, i, v_ph, i_ph, n, fs, k_pre_win, win: Window, tau_s, miti
     v_pre = v_ph[:, k_pre_win.end_index] if k_pre_win is not None else None
     k = win.end_index
     tau_used = None
-    if mitigate and tau_s is not None and k >= n:
-        # least squares with the decaying term: the mimic filter's first difference
-        # would amplify the line's capacitive ringing at high sample rates
-        i_f = window_phasor_decay_ls(i, k, n, tau_s * fs)
-        tau_used = tau_s
-    elif mitigate and k >= n - 1:
-        # each phase its own time constant (the offset's differs from phase to phase)
-        i_f, taus, offs = window_phasor_fitted_decay(i, k, n)
-        tau_used = float(taus[int(np.argmax(np.abs(offs)))] / fs)
+    if mitigate and k >= n - 1:
+        # least squares with the decaying term (the mimic filter's first difference
+        # would amplify the line's capacitive ringing at high sample rates); without a
+        # given time constant each phase gets its own, fitted
+        i_f, tau_used = fault_window_current(i, k, n, fs, tau_s)
     else:
         i_f = i_ph[:, k]
     v_f = v_ph[:, k]

@@ -69,3 +69,38 @@ def test_simulated_fault_located(code, fraction, rf):
         # with 8 ohm under load the simple reactance method is the worse one
         react = next(m for m in one.methods if m.method == "reactance")
         assert abs(react.distance_km - d) > abs(one.distance_km - d)
+
+
+def test_parallel_circuit_residual_channel_compensates_mutual_coupling():
+    # a ground fault on one of two coupled circuits, recorded with the parallel circuit's
+    # residual current (role IP) in the same record: the single-ended methods add
+    # Z0m(d) I0,par to the loop's drop.  Truth: the simulator's fault position.
+    import numpy as np
+    from test_single_ended import _coupled_pair
+
+    from eventlab.records.build import make_record
+
+    model = _coupled_pair(homogeneous=False)
+    spec = SimulationSpec(line="L1", fraction=0.8, type="BG", r_fault_ohm=0.0,
+                          inception_s=0.1, inception_angle_deg=60.0, relay_time_s=0.04,
+                          clear_after_s=0.06, duration_s=0.25, samples_per_cycle=64,
+                          noise=0.0005, seed=3)
+    sim = simulate(model, spec)
+    own, par = sim.records["VM-L1"], sim.records["VM-L2"]
+    i_par = sum(np.asarray(par.analog_by_name(n).values) for n in ("IA", "IB", "IC"))
+    chans = [(c.name, c.phase, c.unit, np.asarray(c.values)) for c in own.analog]
+    with_ip = make_record(own.station, own.time, chans + [("IP PARALLEL", "", "A", i_par)],
+                          frequency_hz=own.frequency_hz, start=own.start)
+    d_true = 0.8 * model.line("L1").length_km
+    errs = {}
+    for label, rec in (("with IP", with_ip), ("without", own)):
+        a = analyze([rec], model=model, line="L1")
+        assert a.terminals[0].channels.get("IP") == ("IP PARALLEL" if label == "with IP" else None)
+        errs[label] = {m.method: m.distance_km - d_true for m in a.location.methods}
+    length = model.line("L1").length_km
+    for method in ("reactance", "takagi", "modified_takagi", "eriksson"):
+        # measured 0.03 km with IP, 6.7 km without (of 100 km)
+        assert abs(errs["with IP"][method]) <= 0.002 * length, (method, errs)
+        assert abs(errs["without"][method]) > 0.03 * length, (method, errs)
+    # the model fit solves the coupled network itself and needs no IP channel
+    assert abs(errs["without"]["model_fit"]) <= 0.002 * length

@@ -121,3 +121,78 @@ def test_reactance_error_equals_textbook_apparent_impedance(load_deg):
     i_comp = compensated_current(end.i_fault, select_loop("AG"), k0)
     expected = 60.0 + (rf * res.fault.i_abc[0] / i_comp).imag / z1_km.imag
     assert reactance(end, line).distance_km == pytest.approx(expected, abs=1e-6)
+
+
+def _coupled_pair(homogeneous: bool):
+    """Two coupled 230 kV circuits VM-CR1/VM-CR2 between two sources (made-up data)."""
+    from eventlab.network.model import model_from_dict
+
+    if homogeneous:       # every impedance at atan(0.4/0.035)
+        zl1, zl0, zm = [0.035, 0.40], [0.10, 1.1428571428571428], [0.0525, 0.6]
+        zs1, zs0, zr1, zr0 = [0.7, 8.0], [1.05, 12.0], [1.4, 16.0], [2.1, 24.0]
+    else:
+        zl1, zl0, zm = [0.030, 0.38], [0.26, 1.15], [0.20, 0.62]
+        zs1, zs0, zr1, zr0 = [0.9, 9.5], [1.6, 14.0], [2.5, 22.0], [3.5, 30.0]
+    data = {
+        "system": {"name": "coupled pair", "frequency_hz": 60.0, "base_mva": 100.0},
+        "bus": [{"id": "VELLMOOR", "kv": 230.0}, {"id": "CARDON_REACH", "kv": 230.0}],
+        "source": [
+            {"bus": "VELLMOOR", "z1_ohm": zs1, "z0_ohm": zs0, "emf_pu": 1.02, "angle_deg": 8.0},
+            {"bus": "CARDON_REACH", "z1_ohm": zr1, "z0_ohm": zr0, "emf_pu": 1.0},
+        ],
+        "line": [
+            {"id": "L1", "from": "VELLMOOR", "to": "CARDON_REACH", "length_km": LENGTH_KM,
+             "z1_ohm_per_km": zl1, "z0_ohm_per_km": zl0,
+             "mutual": {"line": "L2", "z0m_ohm_per_km": zm}},
+            {"id": "L2", "from": "CARDON_REACH", "to": "VELLMOOR", "length_km": LENGTH_KM,
+             "z1_ohm_per_km": zl1, "z0_ohm_per_km": zl0},
+        ],
+        "terminal": [
+            {"id": "VM-L1", "line": "L1", "bus": "VELLMOOR", "station": "VELLMOOR"},
+            {"id": "VM-L2", "line": "L2", "bus": "VELLMOOR", "station": "VELLMOOR"},
+            {"id": "CR-L1", "line": "L1", "bus": "CARDON_REACH", "station": "CARDON REACH"},
+        ],
+    }
+    return model_from_dict(data, source_name="<coupled pair>")
+
+
+@pytest.mark.parametrize("fraction", [0.2, 0.5, 0.85])
+@pytest.mark.parametrize("code", ["AG", "BG", "CG"])
+def test_mutual_coupling_compensated_with_the_parallel_residual(code, fraction):
+    # The drop of a ground loop on a coupled line is Z1 (Ip - I0) + Z0 I0 + Z0m I0,par
+    # (zero-sequence mutual coupling, e.g. P. M. Anderson, Analysis of Faulted Power
+    # Systems, 1973, on mutually coupled lines, from memory).  Reference: the fault
+    # solver's coupled-pair network, itself checked against an independent a-b-c nodal
+    # solution in tests/network/test_phase_domain.py.  Bolted, so every method's own
+    # assumption about the fault current holds.
+    model = _coupled_pair(homogeneous=False)
+    res = solve_fault(model, FaultSpec("L1", fraction, code))
+    t0 = model.terminal("VM-L1")
+    line = line_from(model, "L1", t0)
+    assert line.z0m_ohm_per_km != 0 and line.parallel_line == "L2"
+    with_par = phasors_from_solution(res, model, "VM-L1", parallel_terminal_id="VM-L2")
+    without = phasors_from_solution(res, model, "VM-L1")
+    d_true = fraction * LENGTH_KM
+    for e in _all(model, with_par, line, t0, fraction):
+        assert e.distance_km == pytest.approx(d_true, abs=TOL_KM), e.method
+        assert any("compensated" in n for n in e.notes)
+    # not compensated: the parallel circuit's zero-sequence current makes the loop
+    # read off: -0.17 %, +0.91 % and +8.9 % of the line at 20, 50 and 85 % here
+    plain = reactance(without, line)
+    assert abs(plain.distance_km - d_true) > 0.001 * LENGTH_KM
+    assert any("not compensated" in n for n in plain.notes)
+
+
+@pytest.mark.parametrize("rf", [5.0, 30.0])
+def test_takagi_with_mutual_coupling_exact_in_homogeneous_network(rf):
+    # Takagi et al. 1982: exact with fault resistance when the distribution factor is
+    # real, here with the coupled circuit's drop compensated as well
+    model = _coupled_pair(homogeneous=True)
+    res = solve_fault(model, FaultSpec("L1", 0.6, "BG", rf))
+    t0 = model.terminal("VM-L1")
+    end = phasors_from_solution(res, model, "VM-L1", parallel_terminal_id="VM-L2")
+    got = takagi(end, line_from(model, "L1", t0))
+    assert got.distance_km == pytest.approx(60.0, abs=TOL_KM)
+    angle = distribution_angle(model, "L1", t0, 0.6, "BG")
+    got = modified_takagi(end, line_from(model, "L1", t0), angle)
+    assert got.distance_km == pytest.approx(60.0, abs=TOL_KM)
