@@ -308,22 +308,28 @@ def _uniform(t: np.ndarray) -> bool:
     return bool(dt > 0 and np.max(np.abs(d - dt)) <= 0.01 * dt)
 
 
-def _resampled(term: TerminalChannels, t: np.ndarray, t_new: np.ndarray):
-    """Terminal waveforms and status channels on the new time grid.
+def _on_grid(channels: Sequence, t: np.ndarray, t_new: np.ndarray) -> np.ndarray:
+    """Channel values at the instants ``t_new`` [s], shape (len(channels), len(t_new)).
 
-    Akima interpolation (H. Akima, J. ACM 17(4), 1970): local, so a fault's
-    step does not ring back into the pre-fault samples the way a global cubic
-    spline does (the inception detector would see that ringing); its phasor
-    error at 16.7 samples a cycle is about 0.05 %.
+    Each channel's samples were taken at ``t + skew_s`` (C37.111 ``skew``: the
+    channel's time skew from the start of the sample period), so a channel
+    with skew, or any channel when the grid changes, is interpolated from its
+    own instants.  Akima interpolation (H. Akima, J. ACM 17(4), 1970): local,
+    so a fault's step does not ring back into the pre-fault samples the way a
+    global cubic spline does (the inception detector would see that ringing);
+    its phasor error at 16.7 samples a cycle is about 0.05 %.
     """
     from scipy.interpolate import Akima1DInterpolator
 
-    v = Akima1DInterpolator(t, term.v_abc, axis=1)(t_new)
-    i = Akima1DInterpolator(t, term.i_abc, axis=1)(t_new)
-    idx = np.clip(np.searchsorted(t, t_new, side="right") - 1, 0, t.size - 1)
-    trips = tuple(replace(ch, values=np.asarray(ch.values)[idx]) for ch in term.trips)
-    bkrs = tuple(replace(ch, values=np.asarray(ch.values)[idx]) for ch in term.breakers)
-    return v, i, trips, bkrs
+    out = np.empty((len(channels), t_new.size))
+    for k, ch in enumerate(channels):
+        x = np.asarray(ch.values, dtype=float)
+        skew = float(getattr(ch, "skew_s", 0.0) or 0.0)
+        if skew == 0.0 and t_new is t:
+            out[k] = x
+        else:
+            out[k] = Akima1DInterpolator(t + skew, x)(t_new, extrapolate=True)
+    return out
 
 
 def _ro(x) -> np.ndarray:
@@ -340,13 +346,30 @@ def _terminal(record: Record, k_rec: int, term: TerminalChannels, n: int, fs: fl
               opts: AnalysisOptions, warnings: list[str]) -> tuple[TerminalAnalysis, float | None,
                                                                    bool]:
     f0 = record.frequency_hz
+    extra_ch = [c for c in (term.neutral_current, term.neutral_voltage,
+                            term.parallel_residual) if c is not None]
+    skewed = [c.name for c in (*term.voltages, *term.currents, *extra_ch)
+              if getattr(c, "skew_s", 0.0)]
     if abs(fs - n * f0) > 1e-6 * fs or not _uniform(record.time):
         t = np.arange(int(np.floor(record.time[-1] * n * f0)) + 1) / (n * f0)
-        v, i, trips, bkrs = _resampled(term, record.time, t)
+        idx = np.clip(np.searchsorted(record.time, t, side="right") - 1, 0, record.time.size - 1)
+        trips = tuple(replace(ch, values=np.asarray(ch.values)[idx]) for ch in term.trips)
+        bkrs = tuple(replace(ch, values=np.asarray(ch.values)[idx]) for ch in term.breakers)
         fs = n * f0
     else:
         t = record.time
-        v, i, trips, bkrs = term.v_abc, term.i_abc, term.trips, term.breakers
+        trips, bkrs = term.trips, term.breakers
+    if t is record.time and not skewed:
+        v, i = term.v_abc, term.i_abc
+    else:
+        v = _on_grid(term.voltages, record.time, t)
+        i = _on_grid(term.currents, record.time, t)
+    if skewed:
+        warnings.append(f"record {k_rec}: channel skew applied (values interpolated to the "
+                        f"common sample instants) for {', '.join(skewed)}")
+    extra_values = {id(c): (_on_grid([c], record.time, t)[0]
+                            if (t is not record.time or c.name in skewed)
+                            else np.asarray(c.values, dtype=float)) for c in extra_ch}
     v_ph = dft_phasors(v, n, opts.filter)
     i_ph = dft_phasors(i, n, opts.filter)
     have_v = bool(np.abs(v).max() > 0)
@@ -424,7 +447,7 @@ def _terminal(record: Record, k_rec: int, term: TerminalChannels, n: int, fs: fl
                     pre[name] = complex(ph_now[p, kp])
                 flt[name] = complex(ph_fault[p])
         for ch, name in extra:
-            x = np.asarray(ch.values, dtype=float)
+            x = extra_values[id(ch)]
             if kp is not None:
                 pre[name] = complex(window_phasor(x, kp, n))
             if ch is not term.neutral_voltage and opts.mitigate_offset and kf >= n - 1:

@@ -10,7 +10,8 @@ Each analog value is ``a * x + b`` (C37.111-2013 clause 6.4), which gives
 the side the channel's ``PS`` flag names.  ``values="primary"`` multiplies a
 secondary channel by ``primary / secondary``; ``values="secondary"`` divides
 a primary one by it.  Channel ``skew`` is kept on the channel as
-``skew_s`` and never applied to the values or the time axis.
+``skew_s`` and never applied to the values or the time axis here (the
+analysis interpolates skewed channels to the common instants).
 
 Time
 ----
