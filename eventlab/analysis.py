@@ -450,9 +450,11 @@ def _terminal(record: Record, k_rec: int, term: TerminalChannels, n: int, fs: fl
             x = extra_values[id(ch)]
             if kp is not None:
                 pre[name] = complex(window_phasor(x, kp, n))
-            if ch is not term.neutral_voltage and opts.mitigate_offset and kf >= n - 1:
-                # residual currents: the same offset removal as the phase currents
-                flt[name] = complex(fault_window_current(x, kf, n, fs, opts.tau_s)[0])
+            if opts.mitigate_offset and kf >= n - 1:
+                # the same window and offset removal as the phase quantities
+                length = iv.fault.end_index - iv.fault.start_index + 1
+                tau = opts.tau_s if ch is not term.neutral_voltage else None
+                flt[name] = complex(fault_window_current(x, kf, n, fs, tau, max(length, n))[0])
             else:
                 flt[name] = complex(window_phasor(x, kf, n))
         rv = moving_rms(np.vstack([v, i]), n)

@@ -298,15 +298,18 @@ def decay_ls_phasors(samples, samples_per_cycle: int, tau_s: float,
     return out
 
 
-def _decay_ls_rows(n: int, tau_n: float) -> np.ndarray:
-    """Pseudo-inverse (3, N) of the one-cycle design ``[cos, -sin, exp(-m / tau)]``."""
-    m = np.arange(n)
+def _decay_ls_rows(n: int, tau_n: float, length: int | None = None) -> np.ndarray:
+    """Pseudo-inverse (3, L) of the design ``[cos, -sin, exp(-m / tau)]`` over L samples.
+
+    ``L`` = ``length`` (default one cycle, ``N``); the angle turns once per ``N``.
+    """
+    m = np.arange(n if length is None else int(length))
     th = 2.0 * np.pi * m / n
     return np.linalg.pinv(np.column_stack([np.cos(th), -np.sin(th), np.exp(-m / tau_n)]))
 
 
 def window_phasor_decay_ls(samples, end_index: int, samples_per_cycle: int,
-                           tau_samples: float) -> np.ndarray:
+                           tau_samples: float, length: int | None = None) -> np.ndarray:
     """Least-squares phasor with a decaying term of the one window ending at ``end_index``.
 
     Same value and reference as ``decay_ls_phasors(samples, N, tau_s, fs)[..., end_index]``
@@ -321,6 +324,8 @@ def window_phasor_decay_ls(samples, end_index: int, samples_per_cycle: int,
     samples_per_cycle : int
     tau_samples : float
         Offset time constant [samples].
+    length : int, optional
+        Window length [samples], at least ``N`` (default one cycle).
 
     Returns
     -------
@@ -340,11 +345,15 @@ def window_phasor_decay_ls(samples, end_index: int, samples_per_cycle: int,
     tau_n = float(tau_samples)
     if not (np.isfinite(tau_n) and tau_n > 0):
         raise SignalError(f"tau_samples={tau_samples!r}: expected a positive time constant")
-    if k < n - 1 or k >= x.shape[-1]:
-        raise SignalError(f"window ending at sample {k}: expected {n - 1} <= index < "
+    w_len = n if length is None else int(length)
+    if w_len < n:
+        raise SignalError(f"window of {w_len} samples: expected at least one cycle ({n})")
+    if k < w_len - 1 or k >= x.shape[-1]:
+        raise SignalError(f"window ending at sample {k}: expected {w_len - 1} <= index < "
                           f"{x.shape[-1]}")
-    ab = x[..., k - n + 1:k + 1] @ _decay_ls_rows(n, tau_n).T   # (..., 3)
-    return (ab[..., 0] + 1j * ab[..., 1]) / SQRT2 * _rotator_at(np.array([k - n + 1]), n)[0]
+    ab = x[..., k - w_len + 1:k + 1] @ _decay_ls_rows(n, tau_n, w_len).T   # (..., 3)
+    return ((ab[..., 0] + 1j * ab[..., 1]) / SQRT2
+            * _rotator_at(np.array([k - w_len + 1]), n)[0])
 
 
 #: bounds of the fitted offset time constant [cycles] (transmission and
@@ -352,7 +361,8 @@ def window_phasor_decay_ls(samples, end_index: int, samples_per_cycle: int,
 TAU_FIT_BOUNDS_CYCLES = (0.25, 30.0)
 
 
-def window_phasor_fitted_decay(samples, end_index: int, samples_per_cycle: int
+def window_phasor_fitted_decay(samples, end_index: int, samples_per_cycle: int,
+                               length: int | None = None
                                ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Least-squares phasor of one window with a decaying term of fitted time constant.
 
@@ -367,8 +377,12 @@ def window_phasor_fitted_decay(samples, end_index: int, samples_per_cycle: int
     samples : array_like, shape (c, n) or (n,)
         Instantaneous currents [A].
     end_index : int
-        Last sample of the window (``>= N - 1``).
+        Last sample of the window (``>= length - 1``).
     samples_per_cycle : int
+    length : int, optional
+        Window length [samples], at least ``N`` (default ``N``, one cycle); a
+        longer window rejects more of what the model does not hold (noise,
+        ringing, content between the harmonics).
 
     Returns
     -------
@@ -398,11 +412,14 @@ def window_phasor_fitted_decay(samples, end_index: int, samples_per_cycle: int
     x2 = np.atleast_2d(x).reshape(-1, x.shape[-1])
     n = check_samples_per_cycle(samples_per_cycle)
     k = int(end_index)
-    if k < n - 1 or k >= x2.shape[-1]:
-        raise SignalError(f"window ending at sample {k}: expected {n - 1} <= index < "
+    w_len = n if length is None else int(length)
+    if w_len < n:
+        raise SignalError(f"window of {w_len} samples: expected at least one cycle ({n})")
+    if k < w_len - 1 or k >= x2.shape[-1]:
+        raise SignalError(f"window ending at sample {k}: expected {w_len - 1} <= index < "
                           f"{x2.shape[-1]}")
-    seg = x2[:, k - n + 1:k + 1]
-    m = np.arange(n)
+    seg = x2[:, k - w_len + 1:k + 1]
+    m = np.arange(w_len)
     th = 2.0 * np.pi * m / n
     base = np.column_stack([np.cos(th), -np.sin(th)])
     lo, hi = (np.log(c * n) for c in TAU_FIT_BOUNDS_CYCLES)
@@ -431,7 +448,7 @@ def window_phasor_fitted_decay(samples, end_index: int, samples_per_cycle: int
         ph[c] = complex(sol[0], sol[1]) / SQRT2
         taus[c] = float(np.exp(u))
         offs[c] = float(sol[2])
-    ph *= _rotator_at(np.array([k - n + 1]), n)[0]
+    ph *= _rotator_at(np.array([k - w_len + 1]), n)[0]
     if one:
         return ph[0], taus[:1], offs[:1]
     shape = x.shape[:-1]
@@ -439,19 +456,21 @@ def window_phasor_fitted_decay(samples, end_index: int, samples_per_cycle: int
 
 
 def fault_window_current(samples, end_index: int, samples_per_cycle: int,
-                         sample_rate_hz: float, tau_s: float | None = None
-                         ) -> tuple[np.ndarray, float | None]:
-    """Fault-window current phasor(s) with the decaying offset removed, as the timeline uses.
+                         sample_rate_hz: float, tau_s: float | None = None,
+                         length: int | None = None) -> tuple[np.ndarray, float | None]:
+    """Fault-window phasor(s) with the decaying offset removed, as the timeline uses.
 
     ``tau_s`` given: :func:`window_phasor_decay_ls` with that time constant;
-    else :func:`window_phasor_fitted_decay` (each channel its own).  Returns
-    the phasor(s) [A] and the time constant [s] used (given, or the fitted one
-    of the channel with the largest offset).
+    else :func:`window_phasor_fitted_decay` (each channel its own).  The
+    window ends at ``end_index`` and is ``length`` samples long (default one
+    cycle).  Returns the phasor(s) [A] or [V] and the time constant [s] used
+    (given, or the fitted one of the channel with the largest offset).
     """
     fs = float(sample_rate_hz)
     if tau_s is not None:
-        return window_phasor_decay_ls(samples, end_index, samples_per_cycle, tau_s * fs), tau_s
-    ph, taus, offs = window_phasor_fitted_decay(samples, end_index, samples_per_cycle)
+        return window_phasor_decay_ls(samples, end_index, samples_per_cycle, tau_s * fs,
+                                      length), tau_s
+    ph, taus, offs = window_phasor_fitted_decay(samples, end_index, samples_per_cycle, length)
     k = int(np.argmax(np.abs(np.atleast_1d(offs))))
     return ph, float(np.atleast_1d(taus)[k] / fs)
 

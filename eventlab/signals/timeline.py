@@ -24,7 +24,7 @@ from eventlab.signals.phasors import (
     fault_window_current,
 )
 from eventlab.signals.sequence import sequence_phasors
-from eventlab.signals.windows import Window, fault_window, prefault_window
+from eventlab.signals.windows import Window, fault_window, prefault_window, steady_window
 from eventlab.symmetrical import abc_to_012
 
 PHASES = ("A", "B", "C")
@@ -820,6 +820,18 @@ def _stages(t, v, i, v_ph, i_ph, n, fs, k_on, run_end, poles, kind, mitigate, ta
     out = []
     for j, (ks, cc, ww, ii, vv) in enumerate(bounds):
         ke = bounds[j + 1][0] if j + 1 < len(bounds) else k_end
+        if mitigate and cc.type != NO_FAULT:
+            # the phasors over the steady part of the stage (the type stays the one of
+            # its first cycle, where the stages were told apart); voltages get the
+            # offset term too: behind a source of another X/R they carry one
+            sw = steady_window(t, ww, bounds[j + 1][0] if j + 1 < len(bounds) else stop, n)
+            if sw is not ww:
+                length = sw.end_index - sw.start_index + 1
+                ii, tau_j = fault_window_current(i, sw.end_index, n, fs, tau_given, length)
+                vv = fault_window_current(v, sw.end_index, n, fs, None, length)[0]
+                ww = sw
+                if j == 0:
+                    tau = tau_j
         out.append(FaultInterval(
             kind=kind if j == 0 else "evolved", type=cc.type,
             start_s=onset_s if (j == 0 and onset_s is not None) else _onset_time(t, ks),

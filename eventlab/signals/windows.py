@@ -1,13 +1,25 @@
-"""Pre-fault and fault windows (one cycle each) around a fault interval."""
+"""Pre-fault and fault windows around a fault interval.
+
+The pre-fault window is one cycle.  The fault window starts one cycle after
+inception; its first cycle classifies the fault (and tells the stages of an
+evolving fault apart), and the phasors are fitted over the steady part of the
+fault that follows, up to :data:`STEADY_MAX_CYCLES` cycles, ending before the
+first pole opens or the next stage begins (:func:`steady_window`).
+"""
 
 from __future__ import annotations
 
 from dataclasses import dataclass
 
+#: longest fault window [cycles] the fault-window phasors are fitted over: three
+#: cycles rejected ringing, aliasing and noise best on the simulated benchmark
+#: (``benchmarks/bench_location_accuracy.py``; two and four did worse)
+STEADY_MAX_CYCLES = 3.0
+
 
 @dataclass(frozen=True)
 class Window:
-    """A one-cycle data window ``[start_index, end_index]`` (inclusive) and its times [s].
+    """A data window ``[start_index, end_index]`` (inclusive) and its times [s].
 
     ``flagged`` is True when the preferred placement was not possible; ``note``
     says why.
@@ -94,3 +106,35 @@ def fault_window(time_s, inception_index: int, stop_index: int, samples_per_cycl
     end = min(start + n - 1, n_t - 1)
     return _win(time_s, start, end, True,
                 "short fault (under one cycle): the window reaches past the pole opening")
+
+
+def steady_window(time_s, window: Window, stop_index: int, samples_per_cycle: int,
+                  max_cycles: float = STEADY_MAX_CYCLES) -> Window:
+    """``window`` extended over the steady part of the fault that follows it.
+
+    Parameters
+    ----------
+    time_s : array (n,)
+    window : Window
+        The one-cycle fault window (:func:`fault_window`).
+    stop_index : int
+        First sample no longer usable (first pole opening, next stage, end of
+        the fault).
+    samples_per_cycle : int
+    max_cycles : float
+        Longest window [cycles].
+
+    Returns
+    -------
+    Window
+        Same start, ending two samples before ``stop_index`` or after
+        ``max_cycles`` cycles, whichever comes first; ``window`` itself when
+        it is flagged (placed where the preferred placement did not fit) or
+        cannot be lengthened.
+    """
+    n = int(samples_per_cycle)
+    end = min(int(stop_index) - 2, window.start_index + int(round(max_cycles * n)) - 1,
+              len(time_s) - 1)
+    if window.flagged or end <= window.end_index:
+        return window
+    return _win(time_s, window.start_index, end)
