@@ -184,6 +184,21 @@ def write_structure_lists() -> None:
            [(31.2, "tower", "OH")], (-47.3310, 171.2050), (-47.1560, 171.5230))
 
 
+#: recorder anti-aliasing filter: second-order Butterworth with its corner at this
+#: fraction of the sampling rate (common practice, no source; the same as in
+#: benchmarks/bench_location_accuracy.py)
+ANTI_ALIAS_FRACTION = 0.3
+
+
+def recorder_spec(ev: Event, model) -> SimulationSpec:
+    """The event's simulation with the recorder's anti-aliasing filter (every recorder has one)."""
+    spec = ev.spec
+    if spec.anti_alias_hz is None:
+        f_hz = spec.frequency_hz or model.system.frequency_hz
+        spec = replace(spec, anti_alias_hz=ANTI_ALIAS_FRACTION * spec.samples_per_cycle * f_hz)
+    return spec
+
+
 # ----------------------------------------------------------------------------- main
 
 def main(argv: list[str] | None = None) -> int:
@@ -198,7 +213,7 @@ def main(argv: list[str] | None = None) -> int:
         if args.only and ev.folder not in args.only:
             continue
         model = load_model(MODELS / ev.model)
-        result = simulate(model, ev.spec)
+        result = simulate(model, recorder_spec(ev, model))
         result = replace(result, truth=replace(result.truth, notes=ev.notes))
         out = OUT / ev.folder
         if out.exists():

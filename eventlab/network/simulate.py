@@ -309,6 +309,7 @@ class Truth:
     distance_from_km: Mapping[str, float] = field(default_factory=dict)
     source_frequency_hz: float | None = None
     notes: str = ""
+    anti_alias_hz: float | None = None
 
     def to_dict(self) -> dict:
         """JSON-ready mapping (angles in degrees, times in seconds)."""
@@ -950,6 +951,7 @@ def simulate(model: NetworkModel, spec: SimulationSpec) -> SimulationResult:
                                             else fline.length_km - distance_km), 6)
                           for t in model.terminals_of_line(fline.id)}
         if spec.type != NO_FAULT else {},
+        anti_alias_hz=spec.anti_alias_hz,
     )
     return SimulationResult(records=records, truth=truth, terminals=terms)
 
