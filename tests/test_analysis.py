@@ -417,3 +417,31 @@ def test_residual_channel_on_a_resampled_record():
     assert a.records[0].resampled
     assert abs(t.fault["IN"] - 3 * t.i012_fault[0]) <= 1e-3 * abs(t.fault["IN"])
     assert not any("residual current differs" in w for w in a.warnings)
+
+
+@pytest.mark.parametrize("folder", _EVENTS, ids=[p.name for p in _EVENTS])
+def test_ct_saturation_flagged_from_the_waveform_only_where_it_happens(folder):
+    # truth: the simulator saturates the VELLMOOR CT of vm_cr1_ct_saturation (its
+    # magnetising branch, eventlab.network.emt_ct) and no other; the flag comes from
+    # what the fault-window fit leaves of a faulted-phase current
+    from eventlab.records import read_record
+
+    records = [read_record(p) for p in sorted(folder.glob("*.cfg"))]
+    a = analyze(records)
+    for t in a.terminals:
+        flagged = [f for f in t.flags if "CT saturation suspected" in f and "departs" in f]
+        saturating = (folder.name == "vm_cr1_ct_saturation"
+                      and records[t.record].station == "VELLMOOR")
+        assert len(flagged) == (1 if saturating else 0), (records[t.record].station, flagged)
+        if saturating:
+            assert flagged[0].startswith("IA:")
+            iv = t.timeline.intervals[0]
+            assert iv.i_residual[0] > 0.04 > max(iv.i_residual[1:])
+    # and the JSON carries the residuals wherever the window is a clean one
+    for term in a.to_dict()["terminals"]:
+        for iv in term["timeline"]["intervals"]:
+            if iv["windows"]["fault"]["flagged"]:
+                assert iv["waveform_residual"] is None
+            else:
+                assert len(iv["waveform_residual"]["currents"]) == 3
+                assert len(iv["waveform_residual"]["voltages"]) == 3

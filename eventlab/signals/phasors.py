@@ -25,7 +25,7 @@ sums along the time axis, FIR filters are :func:`scipy.signal.lfilter` calls.
 
 from __future__ import annotations
 
-from typing import Literal, get_args
+from typing import Literal, NamedTuple, get_args
 
 import numpy as np
 from scipy.signal import lfilter
@@ -361,9 +361,69 @@ def window_phasor_decay_ls(samples, end_index: int, samples_per_cycle: int,
 TAU_FIT_BOUNDS_CYCLES = (0.25, 30.0)
 
 
+class WindowFit(NamedTuple):
+    """Result of :func:`fault_window_current`."""
+
+    phasor: np.ndarray          # complex (...), same reference as dft_phasors
+    tau_s: float | None         # time constant used [s] (given, or of the largest offset)
+    residual: np.ndarray        # (...) residual RMS / fundamental RMS per channel
+
+
+def _fit_window(x2: np.ndarray, end_index: int, n: int, length: int | None,
+                tau_n: float | None):
+    """Fundamental + exponential fit of each row's window (``tau_n`` None: fitted)."""
+    from scipy.optimize import minimize_scalar
+
+    k = int(end_index)
+    w_len = n if length is None else int(length)
+    if w_len < n:
+        raise SignalError(f"window of {w_len} samples: expected at least one cycle ({n})")
+    if k < w_len - 1 or k >= x2.shape[-1]:
+        raise SignalError(f"window ending at sample {k}: expected {w_len - 1} <= index < "
+                          f"{x2.shape[-1]}")
+    seg = x2[:, k - w_len + 1:k + 1]
+    m = np.arange(w_len)
+    th = 2.0 * np.pi * m / n
+    base = np.column_stack([np.cos(th), -np.sin(th)])
+    lo, hi = (np.log(c * n) for c in TAU_FIT_BOUNDS_CYCLES)
+
+    def coef(row, u):
+        a = np.column_stack([base, np.exp(-m / np.exp(u))])
+        sol, *_ = np.linalg.lstsq(a, row, rcond=None)
+        r = row - a @ sol
+        return sol, float(r @ r)
+
+    ph = np.empty(seg.shape[0], dtype=complex)
+    taus = np.empty(seg.shape[0])
+    offs = np.empty(seg.shape[0])
+    res = np.empty(seg.shape[0])
+    grid = np.linspace(lo, hi, 12)
+    for c, row in enumerate(seg):
+        if tau_n is not None:
+            u = float(np.log(tau_n))
+        else:
+            costs = [coef(row, g)[1] for g in grid]
+            j = int(np.argmin(costs))
+            a_, b_ = grid[max(j - 1, 0)], grid[min(j + 1, grid.size - 1)]
+            u = float(grid[j])
+            if b_ > a_:
+                best = minimize_scalar(lambda g, row=row: coef(row, g)[1], bounds=(a_, b_),
+                                       method="bounded", options={"xatol": 1e-4})
+                if best.fun <= costs[j]:
+                    u = float(best.x)
+        sol, cost = coef(row, u)
+        ph[c] = complex(sol[0], sol[1]) / SQRT2
+        taus[c] = float(np.exp(u))
+        offs[c] = float(sol[2])
+        fund = abs(ph[c])
+        res[c] = float(np.sqrt(cost / w_len) / fund) if fund > 0 else 0.0
+    ph *= _rotator_at(np.array([k - w_len + 1]), n)[0]
+    return ph, taus, offs, res
+
+
 def window_phasor_fitted_decay(samples, end_index: int, samples_per_cycle: int,
                                length: int | None = None
-                               ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+                               ) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
     """Least-squares phasor of one window with a decaying term of fitted time constant.
 
     Each channel gets its own time constant: in every window
@@ -392,6 +452,10 @@ def window_phasor_fitted_decay(samples, end_index: int, samples_per_cycle: int,
         Fitted time constant [samples] of each channel.
     offset : ndarray, shape (c,)
         Fitted offset at the window's first sample ``c`` [A].
+    residual : ndarray, shape (c,)
+        RMS of what the fit leaves over the window, as a fraction of the
+        fundamental's RMS (0 for a pure sinusoid with offset; a saturating CT
+        or an arc leaves several per cent).
 
     Notes
     -----
@@ -405,74 +469,48 @@ def window_phasor_fitted_decay(samples, end_index: int, samples_per_cycle: int,
     nonlinear least squares problems whose variables separate", SIAM J. Numer.
     Anal. 10(2), 1973; the linear part as in :func:`decay_ls_phasors`.
     """
-    from scipy.optimize import minimize_scalar
-
     x = _as_samples(samples)
-    one = x.ndim == 1
     x2 = np.atleast_2d(x).reshape(-1, x.shape[-1])
     n = check_samples_per_cycle(samples_per_cycle)
-    k = int(end_index)
-    w_len = n if length is None else int(length)
-    if w_len < n:
-        raise SignalError(f"window of {w_len} samples: expected at least one cycle ({n})")
-    if k < w_len - 1 or k >= x2.shape[-1]:
-        raise SignalError(f"window ending at sample {k}: expected {w_len - 1} <= index < "
-                          f"{x2.shape[-1]}")
-    seg = x2[:, k - w_len + 1:k + 1]
-    m = np.arange(w_len)
-    th = 2.0 * np.pi * m / n
-    base = np.column_stack([np.cos(th), -np.sin(th)])
-    lo, hi = (np.log(c * n) for c in TAU_FIT_BOUNDS_CYCLES)
-
-    def coef(row, u):
-        a = np.column_stack([base, np.exp(-m / np.exp(u))])
-        sol, *_ = np.linalg.lstsq(a, row, rcond=None)
-        r = row - a @ sol
-        return sol, float(r @ r)
-
-    ph = np.empty(seg.shape[0], dtype=complex)
-    taus = np.empty(seg.shape[0])
-    offs = np.empty(seg.shape[0])
-    grid = np.linspace(lo, hi, 12)
-    for c, row in enumerate(seg):
-        costs = [coef(row, u)[1] for u in grid]
-        j = int(np.argmin(costs))
-        a_, b_ = grid[max(j - 1, 0)], grid[min(j + 1, grid.size - 1)]
-        if b_ > a_:
-            best = minimize_scalar(lambda u, row=row: coef(row, u)[1], bounds=(a_, b_),
-                                   method="bounded", options={"xatol": 1e-4})
-            u = float(best.x) if best.fun <= costs[j] else float(grid[j])
-        else:
-            u = float(grid[j])
-        sol, _ = coef(row, u)
-        ph[c] = complex(sol[0], sol[1]) / SQRT2
-        taus[c] = float(np.exp(u))
-        offs[c] = float(sol[2])
-    ph *= _rotator_at(np.array([k - w_len + 1]), n)[0]
-    if one:
-        return ph[0], taus[:1], offs[:1]
+    ph, taus, offs, res = _fit_window(x2, end_index, n, length, None)
     shape = x.shape[:-1]
-    return ph.reshape(shape), taus.reshape(shape), offs.reshape(shape)
+    if x.ndim == 1:
+        return ph[0], taus[:1], offs[:1], res[:1]
+    return ph.reshape(shape), taus.reshape(shape), offs.reshape(shape), res.reshape(shape)
 
 
 def fault_window_current(samples, end_index: int, samples_per_cycle: int,
                          sample_rate_hz: float, tau_s: float | None = None,
-                         length: int | None = None) -> tuple[np.ndarray, float | None]:
+                         length: int | None = None) -> WindowFit:
     """Fault-window phasor(s) with the decaying offset removed, as the timeline uses.
 
-    ``tau_s`` given: :func:`window_phasor_decay_ls` with that time constant;
-    else :func:`window_phasor_fitted_decay` (each channel its own).  The
-    window ends at ``end_index`` and is ``length`` samples long (default one
-    cycle).  Returns the phasor(s) [A] or [V] and the time constant [s] used
-    (given, or the fitted one of the channel with the largest offset).
+    Fundamental plus a decaying exponential fitted by least squares over the
+    window ending at ``end_index``, ``length`` samples long (default one
+    cycle): with ``tau_s`` given, that time constant (as
+    :func:`window_phasor_decay_ls`); else each channel its own
+    (:func:`window_phasor_fitted_decay`).
+
+    Returns
+    -------
+    WindowFit
+        ``phasor`` [A] or [V]; ``tau_s`` the time constant used (given, or the
+        fitted one of the channel with the largest offset); ``residual`` per
+        channel (see :func:`window_phasor_fitted_decay`).
     """
+    x = _as_samples(samples)
+    x2 = np.atleast_2d(x).reshape(-1, x.shape[-1])
+    n = check_samples_per_cycle(samples_per_cycle)
     fs = float(sample_rate_hz)
-    if tau_s is not None:
-        return window_phasor_decay_ls(samples, end_index, samples_per_cycle, tau_s * fs,
-                                      length), tau_s
-    ph, taus, offs = window_phasor_fitted_decay(samples, end_index, samples_per_cycle, length)
-    k = int(np.argmax(np.abs(np.atleast_1d(offs))))
-    return ph, float(np.atleast_1d(taus)[k] / fs)
+    tau_n = None if tau_s is None else float(tau_s) * fs
+    if tau_n is not None and not (np.isfinite(tau_n) and tau_n > 0):
+        raise SignalError(f"tau_s={tau_s!r}: expected a positive time constant")
+    ph, taus, offs, res = _fit_window(x2, end_index, n, length, tau_n)
+    shape = x.shape[:-1]
+    if tau_s is None:
+        tau_s = float(taus[int(np.argmax(np.abs(offs)))] / fs)
+    if x.ndim == 1:
+        return WindowFit(ph[0], tau_s, res[0])
+    return WindowFit(ph.reshape(shape), tau_s, res.reshape(shape))
 
 
 def estimate_decay_tau(samples, samples_per_cycle: int, sample_rate_hz: float,

@@ -97,6 +97,10 @@ class FaultInterval:
     v_prefault: np.ndarray = field(repr=False, compare=False)   # (3,) [V]
     i_fault: np.ndarray = field(repr=False, compare=False)
     v_fault: np.ndarray = field(repr=False, compare=False)
+    # what the fault-window fit leaves, RMS over the window / fundamental RMS, per phase
+    # (None when the window was not fitted): a saturating CT or an arc leaves per cents
+    i_residual: np.ndarray | None = field(default=None, repr=False, compare=False)
+    v_residual: np.ndarray | None = field(default=None, repr=False, compare=False)
 
     @property
     def duration_ms(self) -> float | None:
@@ -710,7 +714,8 @@ def _classify_at(t, v, i, v_ph, i_ph, n, fs, k_pre_win, win: Window, tau_s, miti
         # least squares with the decaying term (the mimic filter's first difference
         # would amplify the line's capacitive ringing at high sample rates); without a
         # given time constant each phase gets its own, fitted
-        i_f, tau_used = fault_window_current(i, k, n, fs, tau_s)
+        wf = fault_window_current(i, k, n, fs, tau_s)
+        i_f, tau_used = wf.phasor, wf.tau_s
     else:
         i_f = i_ph[:, k]
     v_f = v_ph[:, k]
@@ -820,18 +825,21 @@ def _stages(t, v, i, v_ph, i_ph, n, fs, k_on, run_end, poles, kind, mitigate, ta
     out = []
     for j, (ks, cc, ww, ii, vv) in enumerate(bounds):
         ke = bounds[j + 1][0] if j + 1 < len(bounds) else k_end
+        i_res = v_res = None
         if mitigate and cc.type != NO_FAULT:
             # the phasors over the steady part of the stage (the type stays the one of
             # its first cycle, where the stages were told apart); voltages get the
             # offset term too: behind a source of another X/R they carry one
             sw = steady_window(t, ww, bounds[j + 1][0] if j + 1 < len(bounds) else stop, n)
-            if sw is not ww:
-                length = sw.end_index - sw.start_index + 1
-                ii, tau_j = fault_window_current(i, sw.end_index, n, fs, tau_given, length)
-                vv = fault_window_current(v, sw.end_index, n, fs, None, length)[0]
-                ww = sw
+            if sw.end_index >= n - 1:
+                length = max(sw.end_index - sw.start_index + 1, n)
+                wi = fault_window_current(i, sw.end_index, n, fs, tau_given, length)
+                wv = fault_window_current(v, sw.end_index, n, fs, None, length)
+                ii, vv, ww = wi.phasor, wv.phasor, sw
+                if not sw.flagged:  # a flagged window may reach into the pole opening
+                    i_res, v_res = _ro_real(wi.residual), _ro_real(wv.residual)
                 if j == 0:
-                    tau = tau_j
+                    tau = wi.tau_s
         out.append(FaultInterval(
             kind=kind if j == 0 else "evolved", type=cc.type,
             start_s=onset_s if (j == 0 and onset_s is not None) else _onset_time(t, ks),
@@ -841,7 +849,7 @@ def _stages(t, v, i, v_ph, i_ph, n, fs, k_on, run_end, poles, kind, mitigate, ta
             classification=cc, prefault=pre, fault=ww, pole_open_s=pole_s,
             cleared_by_poles=by_poles and j + 1 == len(bounds),
             tau_s=tau if j == 0 else None, i_prefault=_ro(i_pre), v_prefault=_ro(v_pre),
-            i_fault=_ro(ii), v_fault=_ro(vv)))
+            i_fault=_ro(ii), v_fault=_ro(vv), i_residual=i_res, v_residual=v_res))
     return out
 
 
@@ -850,6 +858,12 @@ def _onset_time(t, k: int) -> float:
     if k <= 0:
         return float(t[0])
     return float(0.5 * (t[k - 1] + t[k]))
+
+
+def _ro_real(x) -> np.ndarray:
+    a = np.array(x, dtype=float, copy=True)
+    a.setflags(write=False)
+    return a
 
 
 def _ro(x) -> np.ndarray:

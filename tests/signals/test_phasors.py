@@ -131,11 +131,12 @@ def test_fitted_offset_time_constant_per_phase(n):
     x = mags[:, None] * np.cos(2 * np.pi * f0 * t + phis[:, None])
     x = x + on * offs[:, None] * np.exp(-tp / taus[:, None])
     end = k0 + 2 * n - 1                         # the window one cycle after inception
-    ph, tau_n, off = window_phasor_fitted_decay(x, end, n)
+    ph, tau_n, off, res = window_phasor_fitted_decay(x, end, n)
     want = mags / np.sqrt(2) * np.exp(1j * phis)
     np.testing.assert_allclose(ph, want, rtol=1e-6)
     np.testing.assert_allclose(tau_n / fs, taus, rtol=1e-4)
     np.testing.assert_allclose(off, offs * np.exp(-n / (taus * fs)), rtol=1e-4)
+    assert np.all(res < 1e-6)      # nothing left: the model holds the whole signal
     # one time constant for all three (the largest offset's) leaves the others off
     one = window_phasor_decay_ls(x, end, n, taus[2] * fs)
     assert np.max(np.abs(one / want - 1)) > 0.01
