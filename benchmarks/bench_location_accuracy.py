@@ -145,9 +145,10 @@ def main(argv=None) -> int:
         t_local = truth_model.terminals_of_line(LINE)[0]
         exact = dataclasses.replace(phasors_from_solution(res, truth_model, t_local.id),
                                     terminal_id=None, station=ends[0].station)
-        kind_of = {1: "single-phase-to-ground", 2: "phase-to-phase"}
-        group = ("two-phase-to-ground" if c["code"] in ("ABG", "BCG", "CAG") else
-                 "three-phase" if c["code"] == "ABC" else kind_of[len(c["code"]) - 1])
+        code = c["code"]
+        group = ("three-phase" if code == "ABC" else
+                 "two-phase-to-ground" if len(code) == 3 else
+                 "single-phase-to-ground" if code.endswith("G") else "phase-to-phase")
         for label, model in (("true", truth_model), ("perturbed", perturbed(truth_model))):
             rep = locate_event(model, [exact], line=LINE)
             err = 100 * abs(rep.distance_km - d_true) / length

@@ -298,18 +298,15 @@ def decay_ls_phasors(samples, samples_per_cycle: int, tau_s: float,
     return out
 
 
-def _decay_ls_rows(n: int, tau_n: float, length: int | None = None) -> np.ndarray:
-    """Pseudo-inverse (3, L) of the design ``[cos, -sin, exp(-m / tau)]`` over L samples.
-
-    ``L`` = ``length`` (default one cycle, ``N``); the angle turns once per ``N``.
-    """
-    m = np.arange(n if length is None else int(length))
+def _decay_ls_rows(n: int, tau_n: float) -> np.ndarray:
+    """Pseudo-inverse (3, N) of the one-cycle design ``[cos, -sin, exp(-m / tau)]``."""
+    m = np.arange(n)
     th = 2.0 * np.pi * m / n
     return np.linalg.pinv(np.column_stack([np.cos(th), -np.sin(th), np.exp(-m / tau_n)]))
 
 
 def window_phasor_decay_ls(samples, end_index: int, samples_per_cycle: int,
-                           tau_samples: float, length: int | None = None) -> np.ndarray:
+                           tau_samples: float) -> np.ndarray:
     """Least-squares phasor with a decaying term of the one window ending at ``end_index``.
 
     Same value and reference as ``decay_ls_phasors(samples, N, tau_s, fs)[..., end_index]``
@@ -324,8 +321,6 @@ def window_phasor_decay_ls(samples, end_index: int, samples_per_cycle: int,
     samples_per_cycle : int
     tau_samples : float
         Offset time constant [samples].
-    length : int, optional
-        Window length [samples], at least ``N`` (default one cycle).
 
     Returns
     -------
@@ -345,15 +340,20 @@ def window_phasor_decay_ls(samples, end_index: int, samples_per_cycle: int,
     tau_n = float(tau_samples)
     if not (np.isfinite(tau_n) and tau_n > 0):
         raise SignalError(f"tau_samples={tau_samples!r}: expected a positive time constant")
+    _window_length(k, n, None, x.shape[-1])
+    ab = x[..., k - n + 1:k + 1] @ _decay_ls_rows(n, tau_n).T   # (..., 3)
+    return (ab[..., 0] + 1j * ab[..., 1]) / SQRT2 * _rotator_at(np.array([k - n + 1]), n)[0]
+
+
+def _window_length(end_index: int, n: int, length: int | None, n_samples: int) -> int:
+    """Length [samples] of the window ending at ``end_index``, checked against the record."""
     w_len = n if length is None else int(length)
     if w_len < n:
         raise SignalError(f"window of {w_len} samples: expected at least one cycle ({n})")
-    if k < w_len - 1 or k >= x.shape[-1]:
-        raise SignalError(f"window ending at sample {k}: expected {w_len - 1} <= index < "
-                          f"{x.shape[-1]}")
-    ab = x[..., k - w_len + 1:k + 1] @ _decay_ls_rows(n, tau_n, w_len).T   # (..., 3)
-    return ((ab[..., 0] + 1j * ab[..., 1]) / SQRT2
-            * _rotator_at(np.array([k - w_len + 1]), n)[0])
+    if end_index < w_len - 1 or end_index >= n_samples:
+        raise SignalError(f"window ending at sample {end_index}: expected {w_len - 1} <= "
+                          f"index < {n_samples}")
+    return w_len
 
 
 #: bounds of the fitted offset time constant [cycles] (transmission and
@@ -375,12 +375,7 @@ def _fit_window(x2: np.ndarray, end_index: int, n: int, length: int | None,
     from scipy.optimize import minimize_scalar
 
     k = int(end_index)
-    w_len = n if length is None else int(length)
-    if w_len < n:
-        raise SignalError(f"window of {w_len} samples: expected at least one cycle ({n})")
-    if k < w_len - 1 or k >= x2.shape[-1]:
-        raise SignalError(f"window ending at sample {k}: expected {w_len - 1} <= index < "
-                          f"{x2.shape[-1]}")
+    w_len = _window_length(k, n, length, x2.shape[-1])
     seg = x2[:, k - w_len + 1:k + 1]
     m = np.arange(w_len)
     th = 2.0 * np.pi * m / n
