@@ -41,7 +41,7 @@ from eventlab.signals.phasors import (
     window_phasor,
 )
 from eventlab.signals.sequence import sequence_phasors
-from eventlab.signals.timeline import Timeline, build_timeline
+from eventlab.signals.timeline import Timeline, build_timeline, saturating_phases
 from eventlab.symmetrical import abc_to_012
 from eventlab.units import polar_deg
 
@@ -223,7 +223,9 @@ def _timeline_dict(tl: Timeline | None, f0: float | None) -> dict:
             "offset_tau_ms": None if iv.tau_s is None else 1e3 * iv.tau_s,
             "waveform_residual": None if iv.i_residual is None else {
                 "currents": [float(x) for x in iv.i_residual],
-                "voltages": [float(x) for x in iv.v_residual]},
+                "voltages": [float(x) for x in iv.v_residual],
+                "currents_steady_part": None if iv.i_distortion is None else [
+                    float(x) for x in iv.i_distortion]},
             "windows": {"prefault": iv.prefault.to_dict() if iv.prefault else None,
                         "fault": iv.fault.to_dict()},
         } for iv in tl.intervals],
@@ -500,8 +502,8 @@ def _terminal(record: Record, k_rec: int, term: TerminalChannels, n: int, fs: fl
     else:
         checks = measurement_checks(v012p, i012p, i012f, i_n)
     if tl.intervals:
-        checks += saturation_checks(tl.intervals[0].i_fault, tl.intervals[0].i_residual,
-                                    tuple(names_i))
+        iv0 = tl.intervals[0]
+        checks += saturation_checks(iv0.i_fault, iv0.i_distortion, tuple(names_i))
     flags.extend(checks)
     warnings.extend(f"record {k_rec} terminal {term.label or '(single)'}: {c}" for c in checks)
     ta = TerminalAnalysis(
@@ -518,12 +520,6 @@ def _terminal(record: Record, k_rec: int, term: TerminalChannels, n: int, fs: fl
 PREFAULT_UNBALANCE_LIMIT = 0.3     # |I0| or |I2| over |I1|, pre-fault
 PREFAULT_V_UNBALANCE_LIMIT = 0.1   # |V0| or |V2| over |V1|, pre-fault
 RESIDUAL_MISMATCH_LIMIT = 0.1      # |IN - 3 I0| over max(|3 I0|, 5 % of |I1|), fault window
-
-
-#: fit residual of a faulted-phase current (RMS over the fault window / its fundamental
-#: RMS) above which CT saturation is suspected: healthy simulated records stay under
-#: 1.6 %, the saturating CT sample leaves 7.8 % (common practice, no source)
-CT_DISTORTION_LIMIT = 0.04
 
 
 def measurement_checks(v012_pre, i012_pre, i012_fault=None, i_n_fault=None) -> list[str]:
@@ -579,14 +575,17 @@ def measurement_checks(v012_pre, i012_pre, i012_fault=None, i_n_fault=None) -> l
     return out
 
 
-def saturation_checks(i_fault, i_residual, names=("IA", "IB", "IC")) -> list[str]:
+def saturation_checks(i_fault, i_distortion, names=("IA", "IB", "IC")) -> list[str]:
     """Flags for fault currents whose waveform says their CT saturates.
 
     Parameters
     ----------
-    i_fault, i_residual : array (3,) or None
-        Fault-window phase currents [A] and what their fit left (RMS fraction
-        of the fundamental, :class:`~eventlab.signals.timeline.FaultInterval`).
+    i_fault : array (3,) or None
+        Fault-window phase currents [A].
+    i_distortion : array (3,) or None
+        What the fit left of each over the steady part of the fault while the
+        voltages stayed steady (fraction of the fundamental,
+        :attr:`~eventlab.signals.timeline.FaultInterval.i_distortion`).
     names : three str
         Channel names, for the messages.
 
@@ -594,18 +593,18 @@ def saturation_checks(i_fault, i_residual, names=("IA", "IB", "IC")) -> list[str
     -----
     A current carrying at least half the largest fault current whose
     waveform departs from a sinusoid with decaying offset by more than
-    :data:`CT_DISTORTION_LIMIT` of its RMS: a saturating CT clips each
-    half-cycle once its core is driven into saturation, which no sinusoid
-    with an offset can follow (common practice, no source).
+    :data:`~eventlab.signals.timeline.CT_DISTORTION_LIMIT` of its RMS while the
+    voltages stay steady: a CT driven into saturation clips each half-cycle,
+    which no sinusoid with an offset can follow (common practice, no source).
     """
-    if i_fault is None or i_residual is None:
+    if i_fault is None or i_distortion is None:
         return []
-    mags = np.abs(np.asarray(i_fault, dtype=complex))
-    big = mags >= 0.5 * float(mags.max()) if mags.size and mags.max() > 0 else mags > 0
-    return [f"{nm}: the fault-window current departs from a sinusoid with decaying offset by "
-            f"{100 * float(r):.1f} % of its RMS: CT saturation suspected"
-            for nm, b, r in zip(names, big, np.asarray(i_residual, dtype=float), strict=True)
-            if b and r > CT_DISTORTION_LIMIT]
+    res = np.asarray(i_distortion, dtype=float)
+    return [f"{nm}: the fault current departs from a sinusoid with decaying offset by "
+            f"{100 * float(r):.1f} % of its RMS while the voltages stay steady: CT "
+            f"saturation suspected"
+            for nm, hit, r in zip(names, saturating_phases(i_fault, res), res, strict=True)
+            if hit]
 
 
 def model_terminal(model, record: Record, line: str | None = None,

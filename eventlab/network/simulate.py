@@ -139,6 +139,11 @@ class SimulationSpec:
         Open only the faulted pole for a single-phase-to-ground fault (and
         reclose it); a trip after reclose, or any other fault type, opens all
         three poles.
+    remote_delay_s : float
+        Sequential clearing: the breaker at the line's ``to`` end gets its trip
+        and open command this much later than the ``from`` end [s] (negative:
+        earlier), as when the ends' relays operate in different zones or
+        through a slower channel.  Default 0 (both ends together).
     frequency_hz : float, optional
         Frequency of the sources [Hz] when it is not the model's nominal one
         (impedances stay those of the nominal frequency; the recorder still
@@ -196,6 +201,7 @@ class SimulationSpec:
     reclose_after_s: float | None = None
     permanent: bool = True
     single_pole: bool = False
+    remote_delay_s: float = 0.0
     frequency_hz: float | None = None
     open_line_s: float | None = None
     load_step: LoadStep | None = None
@@ -238,6 +244,10 @@ class SimulationSpec:
         if self.inception_s >= self.duration_s:
             raise ValueError(f"inception_s ({self.inception_s}) must be before the end of the "
                              f"record (duration_s {self.duration_s})")
+        if not (math.isfinite(self.remote_delay_s)
+                and self.relay_time_s + min(self.remote_delay_s, 0.0) >= 0.0):
+            raise ValueError(f"remote_delay_s ({self.remote_delay_s}) must be finite and leave "
+                             f"the remote trip at or after inception")
         if self.clear_after_s is not None and not (self.clear_after_s >= self.relay_time_s):
             raise ValueError(f"clear_after_s ({self.clear_after_s}) must be >= relay_time_s "
                              f"({self.relay_time_s})")
@@ -780,13 +790,23 @@ def simulate(model: NetworkModel, spec: SimulationSpec) -> SimulationResult:
         seq[0] += 1
         events.append((max(int(round(t_s / dt)), 1), seq[0], kind, payload))
 
+    def protection(t0_s: float) -> None:
+        """Trip and open commands from ``t0_s``, the ``to`` end ``remote_delay_s`` apart."""
+        groups = [(0.0, None)]
+        if spec.remote_delay_s != 0.0:
+            far = tuple(k for k in lay.faulted_breakers if k.split("@", 1)[1] == fline.to_bus)
+            near = tuple(k for k in lay.faulted_breakers if k not in far)
+            groups = [(0.0, near), (spec.remote_delay_s, far)]
+        for delay, keys in groups:
+            at(t0_s + spec.relay_time_s + delay, "trip", keys)
+            if spec.clear_after_s is not None:
+                at(t0_s + spec.clear_after_s + delay, "open", keys)
+
     if spec.type != NO_FAULT:
         at(inception_s, "fault", 0)
         if spec.evolve_to:
             at(inception_s + spec.evolve_after_s, "fault", 1)
-        at(inception_s + spec.relay_time_s, "trip", None)
-        if spec.clear_after_s is not None:
-            at(inception_s + spec.clear_after_s, "open", None)
+        protection(inception_s)
     if spec.open_line_s is not None:
         at(spec.open_line_s, "open", None)
     if spec.load_step is not None:
@@ -859,7 +879,7 @@ def simulate(model: NetworkModel, spec: SimulationSpec) -> SimulationResult:
                 if fault_slot == 1:
                     evolve_s = now_s
             elif kind == "trip":
-                for k in lay.faulted_breakers:
+                for k in (payload if payload is not None else lay.faulted_breakers):
                     trip_on[k].append(now_s)
             elif kind == "open":
                 phases = (0, 1, 2)
@@ -867,7 +887,7 @@ def simulate(model: NetworkModel, spec: SimulationSpec) -> SimulationResult:
                 if (spec.single_pole and reclose_s is None and code != NO_FAULT
                         and len(faulted_phases(code)) == 1):
                     phases = faulted_phases(code)
-                for k in lay.faulted_breakers:
+                for k in (payload if payload is not None else lay.faulted_breakers):
                     target[k] = phases
                     if k in opened:
                         opened[k].append([None, None, None])
@@ -880,9 +900,7 @@ def simulate(model: NetworkModel, spec: SimulationSpec) -> SimulationResult:
                     pole_closed[k] = [True, True, True]
                     changes[lay.breakers[k]] = breaker_state(k)
                 if spec.permanent and fault_slot >= 0:
-                    at(now_s + spec.relay_time_s, "trip", None)
-                    if spec.clear_after_s is not None:
-                        at(now_s + spec.clear_after_s, "open", None)
+                    protection(now_s)
             elif kind == "load":
                 for g in lay.load_groups:
                     changes[g] = (True, True, True)

@@ -370,50 +370,69 @@ class WindowFit(NamedTuple):
 
 
 def _fit_window(x2: np.ndarray, end_index: int, n: int, length: int | None,
-                tau_n: float | None):
-    """Fundamental + exponential fit of each row's window (``tau_n`` None: fitted)."""
-    from scipy.optimize import minimize_scalar
+                tau_n=None):
+    """Fundamental + exponential fit of each row's window.
 
+    ``tau_n`` [samples]: one time constant, one per row, or None (fitted).
+
+    Variable projection in closed form: with the sinusoid's columns ``B``
+    projected out (``P``), the residual for a trial time constant is
+    ``|r0|^2 - (e'.r0)^2 / |e'|^2`` (``r0 = x - P x``, ``e' = e - P e``, ``e``
+    the exponential), evaluated for every channel at once on a grid of
+    ``log tau`` and refined by successive parabolas around each channel's best.
+    """
     k = int(end_index)
     w_len = _window_length(k, n, length, x2.shape[-1])
     seg = x2[:, k - w_len + 1:k + 1]
     m = np.arange(w_len)
     th = 2.0 * np.pi * m / n
-    base = np.column_stack([np.cos(th), -np.sin(th)])
-    lo, hi = (np.log(c * n) for c in TAU_FIT_BOUNDS_CYCLES)
+    base = np.column_stack([np.cos(th), -np.sin(th)])           # (L, 2)
+    pinv_b = np.linalg.pinv(base)                                # (2, L)
+    r0 = seg - (seg @ pinv_b.T) @ base.T                         # (C, L)
 
-    def coef(row, u):
-        a = np.column_stack([base, np.exp(-m / np.exp(u))])
-        sol, *_ = np.linalg.lstsq(a, row, rcond=None)
-        r = row - a @ sol
-        return sol, float(r @ r)
+    def project(e):                                              # e (G, L) -> e'
+        return e - (e @ pinv_b.T) @ base.T
 
-    ph = np.empty(seg.shape[0], dtype=complex)
-    taus = np.empty(seg.shape[0])
-    offs = np.empty(seg.shape[0])
-    res = np.empty(seg.shape[0])
-    grid = np.linspace(lo, hi, 12)
-    for c, row in enumerate(seg):
-        if tau_n is not None:
-            u = float(np.log(tau_n))
-        else:
-            costs = [coef(row, g)[1] for g in grid]
-            j = int(np.argmin(costs))
-            a_, b_ = grid[max(j - 1, 0)], grid[min(j + 1, grid.size - 1)]
-            u = float(grid[j])
-            if b_ > a_:
-                best = minimize_scalar(lambda g, row=row: coef(row, g)[1], bounds=(a_, b_),
-                                       method="bounded", options={"xatol": 1e-4})
-                if best.fun <= costs[j]:
-                    u = float(best.x)
-        sol, cost = coef(row, u)
-        ph[c] = complex(sol[0], sol[1]) / SQRT2
-        taus[c] = float(np.exp(u))
-        offs[c] = float(sol[2])
-        fund = abs(ph[c])
-        res[c] = float(np.sqrt(cost / w_len) / fund) if fund > 0 else 0.0
-    ph *= _rotator_at(np.array([k - w_len + 1]), n)[0]
-    return ph, taus, offs, res
+    def gain(u, rows):
+        """(e'.r0)^2 / |e'|^2 for time constants exp(u) (one per row of ``rows``)."""
+        ep = project(np.exp(-m[None, :] / np.exp(u)[:, None]))
+        den = np.einsum("gl,gl->g", ep, ep)
+        num = np.einsum("gl,gl->g", ep, r0[rows])
+        return np.where(den > 0, num * num / np.where(den > 0, den, 1.0), 0.0)
+
+    c_n = seg.shape[0]
+    rows = np.arange(c_n)
+    if tau_n is not None:
+        u = np.broadcast_to(np.log(np.asarray(tau_n, dtype=float)), (c_n,)).copy()
+    else:
+        lo, hi = (float(np.log(c * n)) for c in TAU_FIT_BOUNDS_CYCLES)
+        grid = np.linspace(lo, hi, 48)
+        ep = project(np.exp(-m[None, :] / np.exp(grid)[:, None]))           # (G, L)
+        den = np.einsum("gl,gl->g", ep, ep)
+        g = (r0 @ ep.T) ** 2 / np.where(den > 0, den, 1.0)[None, :]       # (C, G)
+        u = grid[np.argmax(g, axis=1)]
+        h = grid[1] - grid[0]
+        for _ in range(8):
+            gm, g0, gp = gain(u - h, rows), gain(u, rows), gain(u + h, rows)
+            curv = gm - 2.0 * g0 + gp
+            step = np.where(curv < 0, 0.5 * h * (gm - gp) / np.where(curv < 0, curv, -1.0),
+                            np.where(gp > gm, h, -h))
+            u = np.clip(u + np.clip(step, -h, h), lo, hi)
+            h *= 0.35
+    e = np.exp(-m[None, :] / np.exp(u)[:, None])                           # (C, L)
+    ep = project(e)
+    den = np.einsum("cl,cl->c", ep, ep)
+    coef_e = np.where(den > 0, np.einsum("cl,cl->c", ep, r0) / np.where(den > 0, den, 1.0),
+                      0.0)
+    beta = (seg - coef_e[:, None] * e) @ pinv_b.T                           # (C, 2)
+    fit = beta @ base.T + coef_e[:, None] * e
+    resid = seg - fit
+    ph = (beta[:, 0] + 1j * beta[:, 1]) / SQRT2
+    fund = np.abs(ph)
+    res = np.where(fund > 0, np.sqrt(np.mean(resid * resid, axis=1)) / np.where(
+        fund > 0, fund, 1.0), 0.0)
+    ph = ph * _rotator_at(np.array([k - w_len + 1]), n)[0]
+    return ph, np.exp(u), coef_e, res
 
 
 def window_phasor_fitted_decay(samples, end_index: int, samples_per_cycle: int,

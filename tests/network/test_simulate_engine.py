@@ -253,6 +253,31 @@ def test_breakers_open_at_current_zeros_after_the_clearing_delay():
             assert abs(t_change - opens[p]) <= 1.0 / rec.sample_rate_hz
 
 
+@pytest.mark.parametrize("delay", [-0.015, 0.03])
+def test_sequential_clearing_the_to_end_trips_and_opens_later(delay):
+    # remote_delay_s moves the to-end's trip output and open command; each pole still
+    # opens at its first current zero after the command (common practice, no source),
+    # which an offset current early in the fault can hold back by more than half a cycle
+    result = _simple_result(remote_delay_s=delay)
+    truth = result.truth
+    model = _model()
+    line = model.line("L1")
+    f = 60.0
+    for tid, rec in result.records.items():
+        t = model.terminal(tid)
+        if t.line != "L1":
+            continue
+        d = delay if t.bus == line.to_bus else 0.0
+        t_cmd = truth.inception_s + 0.07 + d
+        for t_open in truth.pole_open_s[tid][0]:
+            assert t_cmd <= t_open <= t_cmd + 2.0 / f, tid
+        t_trip = rec.time[np.flatnonzero(rec.status_by_name("TRIP").values)[0]]
+        assert abs(t_trip - (truth.inception_s + 0.02 + d)) <= 1.0 / rec.sample_rate_hz
+    assert truth.clear_s == pytest.approx(max(max(v[0]) for v in truth.pole_open_s.values()))
+    with pytest.raises(ValueError, match="remote_delay_s"):
+        _simple_result(remote_delay_s=-0.05)
+
+
 def test_no_numerical_oscillation_on_the_opened_line():
     # An isolated R-L line (no capacitance, no source) holds no voltage once
     # the last pole has opened (circuit theory).  The trapezoidal rule alone
