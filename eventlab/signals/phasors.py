@@ -435,6 +435,35 @@ def _fit_window(x2: np.ndarray, end_index: int, n: int, length: int | None,
     return ph, np.exp(u), coef_e, res
 
 
+def window_fit(samples, end_index: int, samples_per_cycle: int, tau_samples=None,
+               length: int | None = None):
+    """Sinusoid-plus-exponential fit of each channel's window ending at ``end_index``.
+
+    ``tau_samples``: the time constant [samples] (one, or one per channel),
+    or None to fit it per channel.  Returns ``(phasor, tau_samples, offset,
+    residual)``, one entry per channel, as :func:`window_phasor_fitted_decay`;
+    the fitted model is ``x_k = sqrt(2) Re(phasor exp(j 2 pi k / N)) +
+    offset exp(-(k - k0) / tau)`` with ``k0`` the window's first sample, so it
+    can be carried past the window (:func:`window_model`).
+    """
+    x = _as_samples(samples)
+    x2 = np.atleast_2d(x).reshape(-1, x.shape[-1])
+    n = check_samples_per_cycle(samples_per_cycle)
+    return _fit_window(x2, end_index, n, length, tau_samples)
+
+
+def window_model(phasor, tau_samples, offset, first_index: int, indices,
+                 samples_per_cycle: int) -> np.ndarray:
+    """Values (c, len(indices)) of the model :func:`window_fit` found, at sample ``indices``."""
+    k = np.asarray(indices, dtype=float)[None, :]
+    ph = np.atleast_1d(np.asarray(phasor, dtype=complex))[:, None]
+    tau = np.atleast_1d(np.asarray(tau_samples, dtype=float))[:, None]
+    off = np.atleast_1d(np.asarray(offset, dtype=float))[:, None]
+    n = float(samples_per_cycle)
+    return (SQRT2 * np.real(ph * np.exp(2j * np.pi * k / n))
+            + off * np.exp(-(k - first_index) / tau))
+
+
 def window_phasor_fitted_decay(samples, end_index: int, samples_per_cycle: int,
                                length: int | None = None
                                ) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:

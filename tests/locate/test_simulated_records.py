@@ -117,9 +117,13 @@ def test_sequential_clearing_window_stops_before_the_remote_end_opens(code, rf):
                           duration_s=0.3, samples_per_cycle=64, noise=0.001, seed=4,
                           anti_alias_hz=0.3 * 64 * 60, remote_delay_s=-0.03)
     sim = simulate(model, spec)
-    far_open = min(sim.truth.pole_open_s["CARDON_REACH-VM-CR1"][0])
+    # the far end's first faulted-phase pole (its sound poles carry little current)
+    from eventlab.faulttypes import faulted_phases
+
+    far = sim.truth.pole_open_s["CARDON_REACH-VM-CR1"][0]
+    far_open = min(far[p] for p in faulted_phases(code))
     near_open = min(sim.truth.pole_open_s["VELLMOOR-VM-CR1"][0])
-    assert near_open - far_open > 0.025
+    assert near_open - far_open > 0.02
     records = [sim.records[t.id] for t in model.terminals_of_line("VM-CR1")]
     length = model.line("VM-CR1").length_km
     a = analyze(records[:1], model=model)
