@@ -41,6 +41,9 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--clear-after", type=float, default=0.075, metavar="S",
                         help="inception to breaker open command complete [s]; poles open at "
                              "the next current zero (default 0.075; 0 = not cleared)")
+    parser.add_argument("--remote-delay", type=float, default=0.0, metavar="S",
+                        help="sequential clearing: the line's to-end trips and opens this "
+                             "much later [s] (negative: earlier; default 0)")
     parser.add_argument("--duration", type=float, default=0.4, metavar="S",
                         help="record length [s] (default 0.4)")
     parser.add_argument("--evolve-to", default=None, metavar="CODE",
@@ -113,7 +116,7 @@ def run(args: argparse.Namespace) -> int:
             permanent=not args.temporary, single_pole=args.single_pole,
             frequency_hz=args.frequency, vt_side=args.vt_side,
             anti_alias_hz=args.anti_alias, adc_bits=args.adc_bits,
-            line_model=args.line_model)
+            line_model=args.line_model, remote_delay_s=args.remote_delay)
     except ValueError as exc:
         raise ModelError(f"simulate: {exc}") from None
     result = simulate(model, spec)

@@ -60,3 +60,17 @@ def test_missing_model_file_exit_2(tmp_path, capsys):
                "0.5", "--type", "AG", "-o", str(tmp_path / "x")])
     assert rc == 2
     assert "no such file" in capsys.readouterr().err
+
+
+def test_simulate_sequential_clearing(tmp_path):
+    # --remote-delay: the to-end (HESKARD FEN) opens 20 ms after the from-end (ORRINSBY)
+    rc = main(["simulate", "--model", str(MODEL), "--line", "OR-HF1", "--at", "0.5",
+               "--type", "AG", "--rate", "32", "--duration", "0.3", "--remote-delay", "0.02",
+               "-o", str(tmp_path)])
+    assert rc == 0
+    truth = json.loads((tmp_path / "truth.json").read_text())
+    near = min(truth["pole_open_s"]["ORRINSBY-OR-HF1"][0])
+    far = min(truth["pole_open_s"]["HESKARD_FEN-OR-HF1"][0])
+    assert far - near > 0.01
+    assert main(["simulate", "--model", str(MODEL), "--line", "OR-HF1", "--at", "0.5",
+                 "--type", "AG", "--remote-delay", "-1", "-o", str(tmp_path / "x")]) == 2
