@@ -313,6 +313,48 @@ def _uniform(t: np.ndarray) -> bool:
     return bool(dt > 0 and np.max(np.abs(d - dt)) <= 0.01 * dt)
 
 
+def _gaps_filled(term: TerminalChannels, record: Record, k_rec: int,
+                 warnings: list[str]) -> TerminalChannels:
+    """``term`` with missing samples (NaN: C37.111 missing-data codes) interpolated.
+
+    Linear interpolation in time between the neighbouring recorded samples
+    (held at the record's ends), with a warning naming the channel, the count,
+    the longest gap and where it is; a channel with no sample at all reads zero.
+    """
+    t = record.time
+
+    def fill(ch):
+        if ch is None:
+            return None
+        x = np.asarray(ch.values, dtype=float)
+        bad = ~np.isfinite(x)
+        if not bad.any():
+            return ch
+        good = ~bad
+        if not good.any():
+            y = np.zeros_like(x)
+            warnings.append(f"record {k_rec}: channel {ch.name} holds no recorded sample; "
+                            f"read as zero")
+        else:
+            y = x.copy()
+            y[bad] = np.interp(t[bad], t[good], x[good])
+            edges = np.diff(np.concatenate([[0], bad.astype(np.int8), [0]]))
+            starts, stops = np.nonzero(edges == 1)[0], np.nonzero(edges == -1)[0]
+            j = int(np.argmax(stops - starts))
+            warnings.append(f"record {k_rec}: channel {ch.name}: {int(bad.sum())} missing "
+                            f"sample(s) filled by linear interpolation (longest gap "
+                            f"{int(stops[j] - starts[j])} from {t[starts[j]]:.4f} s); phasors "
+                            f"within a cycle of a gap are estimates")
+        y.setflags(write=False)
+        return replace(ch, values=y)
+
+    return replace(term, voltages=tuple(fill(c) for c in term.voltages),
+                   currents=tuple(fill(c) for c in term.currents),
+                   neutral_current=fill(term.neutral_current),
+                   neutral_voltage=fill(term.neutral_voltage),
+                   parallel_residual=fill(term.parallel_residual))
+
+
 def _on_grid(channels: Sequence, t: np.ndarray, t_new: np.ndarray) -> np.ndarray:
     """Channel values at the instants ``t_new`` [s], shape (len(channels), len(t_new)).
 
@@ -351,6 +393,7 @@ def _terminal(record: Record, k_rec: int, term: TerminalChannels, n: int, fs: fl
               opts: AnalysisOptions, warnings: list[str]) -> tuple[TerminalAnalysis, float | None,
                                                                    bool]:
     f0 = record.frequency_hz
+    term = _gaps_filled(term, record, k_rec, warnings)
     extra_ch = [c for c in (term.neutral_current, term.neutral_voltage,
                             term.parallel_residual) if c is not None]
     skewed = [c.name for c in (*term.voltages, *term.currents, *extra_ch)

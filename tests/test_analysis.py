@@ -448,3 +448,29 @@ def test_ct_saturation_flagged_from_the_waveform_only_where_it_happens(folder):
             else:
                 assert len(iv["waveform_residual"]["currents"]) == 3
                 assert len(iv["waveform_residual"]["voltages"]) == 3
+
+
+def test_missing_samples_are_filled_and_said(tmp_path):
+    # C37.111-1999/2013 missing-data code (BINARY 0x8000, from memory; the reader gives
+    # NaN): three lost samples of IA in the fault window and one of VB before the fault.
+    # Reference: the same record without the gaps.
+    from eventlab.records import read_record, write_record
+
+    e = fw.fault_event("AG", 0.0507)
+    clean = analyze(record_of(e)).terminals[0]
+    e["i_abc"] = e["i_abc"].copy()
+    e["v_abc"] = e["v_abc"].copy()
+    k_fault = int(0.075 * e["fs_hz"])
+    e["i_abc"][0, k_fault:k_fault + 3] = np.nan
+    e["v_abc"][1, 100] = np.nan
+    write_record(record_of(e), tmp_path / "gaps", data_format="BINARY")
+    rec = read_record(tmp_path / "gaps.cfg")
+    assert np.isnan(rec.analog_by_name("IA").values).sum() == 3
+    a = analyze(rec)
+    t = a.terminals[0]
+    assert a.fault_type == "AG"
+    assert abs(t.fault["IA"] / clean.fault["IA"] - 1) < 0.005
+    assert abs(t.prefault["VB"] / clean.prefault["VB"] - 1) < 0.005
+    said = [w for w in a.warnings if "missing sample" in w]
+    assert len(said) == 2 and any("IA: 3 missing" in w for w in said)
+    json.dumps(a.to_dict(), allow_nan=False)
