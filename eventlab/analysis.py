@@ -24,6 +24,7 @@ from eventlab.errors import ChannelMapError, ModelError, SignalError
 from eventlab.locate.api import LocateOptions, LocationReport, locate_event
 from eventlab.locate.compare import ComparisonRow
 from eventlab.locate.inputs import from_fault_interval
+from eventlab.locate.model_link import station_terminals
 from eventlab.records.model import Record
 from eventlab.records.roles import TerminalChannels, map_terminals
 from eventlab.signals.classify import Classification
@@ -656,14 +657,14 @@ def model_terminal(model, record: Record, line: str | None = None,
 
     ``terminal_id`` given: that terminal (:class:`~eventlab.errors.ModelError`
     if the model has none of that id).  Otherwise the terminal at the
-    record's station (case-insensitive, spaces and underscores alike), on
-    ``line`` when given; None when no terminal or more than one matches (the
-    record's channels are then mapped from their names).
+    record's station (case-insensitive, spaces and underscores alike; else by
+    the words of the name, :func:`~eventlab.locate.model_link.station_terminals`),
+    on ``line`` when given; None when no terminal or more than one matches
+    (the record's channels are then mapped from their names).
     """
     if terminal_id is not None:
         return model.terminal(terminal_id)
-    hits = [t for t in model.terminals_at_station(record.station)
-            if line is None or t.line == line]
+    hits, _ = station_terminals(model, record.station, line)
     return hits[0] if len(hits) == 1 else None
 
 

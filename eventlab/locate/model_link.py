@@ -35,6 +35,33 @@ class Pairing:
     how: tuple[str, ...]
 
 
+def station_terminals(model: NetworkModel, station: str, line_id: str | None = None,
+                      first_line: str | None = None) -> tuple[tuple[Terminal, ...], str]:
+    """Terminals a record's station name points at (on ``line_id`` or ``first_line``).
+
+    Exactly (case-insensitive, spaces and underscores alike), else by its
+    words: every word of the model's station name among the record's, or the
+    other way round.  Returns the candidates and how they were found.
+    """
+    def on_line(cands):
+        if line_id is not None:
+            return tuple(c for c in cands if c.line == line_id)
+        if first_line is not None:
+            return tuple(c for c in cands if c.line == first_line)
+        return tuple(cands)
+
+    exact = on_line(model.terminals_at_station(station))
+    if exact:
+        return exact, "station name"
+    # "VELLMOOR 230KV" for the model's "VELLMOOR": every word of the model's station
+    # name among the record's (or the other way round)
+    words = set(_station_key(station).split())
+    part = on_line(t for t in model.terminals
+                   if (w := set(_station_key(t.station).split())) and
+                   (w <= words or (words and words <= w)))
+    return part, "station name (partial match)"
+
+
 def pair_ends(model: NetworkModel, ends: Sequence[TerminalPhasors], line: str | None = None,
               terminal_map: Mapping[str, str] | None = None) -> Pairing:
     """Pair each end with a model terminal.
@@ -53,7 +80,10 @@ def pair_ends(model: NetworkModel, ends: Sequence[TerminalPhasors], line: str | 
     -----
     Order of trust: ``TerminalPhasors.terminal_id`` when set, then
     ``terminal_map``, then the station name (case-insensitive, spaces and
-    underscores alike) among the terminals of ``line``.
+    underscores alike) among the terminals of ``line``, then the words of the
+    station name (every word of the model's name in the record's, or the
+    other way round; one match only), and last, with two records of a
+    two-terminal line of which one is paired, the line's other terminal.
 
     Raises
     ------
@@ -65,41 +95,48 @@ def pair_ends(model: NetworkModel, ends: Sequence[TerminalPhasors], line: str | 
     if len(ends) > 2:
         raise ModelError(f"locate: expected one or two line ends, got {len(ends)}")
     tmap = {_station_key(k): v for k, v in (terminal_map or {}).items()}
-    terms: list[Terminal] = []
-    how: list[str] = []
+    terms: list[Terminal | None] = [None] * len(ends)
+    how: list[str] = [""] * len(ends)
     line_id = line
     if line_id is not None:
         model.line(line_id)  # raises with the list of lines
+    problems: dict[int, str] = {}
     for k, end in enumerate(ends):
-        t = None
         if end.terminal_id is not None:
-            t, why = model.terminal(end.terminal_id), "terminal id"
+            terms[k], how[k] = model.terminal(end.terminal_id), "terminal id"
         elif _station_key(end.station) in tmap:
-            t, why = model.terminal(tmap[_station_key(end.station)]), "explicit map"
+            terms[k], how[k] = model.terminal(tmap[_station_key(end.station)]), "explicit map"
         else:
-            cands = model.terminals_at_station(end.station)
-            if line_id is not None:
-                cands = tuple(c for c in cands if c.line == line_id)
-            elif k > 0:
-                cands = tuple(c for c in cands if c.line == terms[0].line)
-            if len(cands) != 1:
-                known = ", ".join(f"{x.id} (station {x.station}, line {x.line})"
-                                  for x in model.terminals) or "(none)"
-                what = "no terminal" if not cands else f"{len(cands)} terminals"
-                on = f" on line {line_id}" if line_id else ""
-                raise ModelError(f"{model.source_name}: record of station {end.station!r}: "
-                                 f"{what} at that station{on}; model terminals are {known}; "
-                                 f"give --line or pair explicitly")
-            t, why = cands[0], "station name"
+            first_line = next((t.line for t in terms if t is not None), None)
+            cands, why = station_terminals(model, end.station, line_id, first_line)
+            if len(cands) == 1:
+                terms[k], how[k] = cands[0], why
+            else:
+                problems[k] = "no terminal" if not cands else f"{len(cands)} terminals"
+                continue
         if line_id is None:
-            line_id = t.line
+            line_id = terms[k].line
+    for k in problems:
+        # two records of a two-terminal line, the other one paired: this is the other end
+        other = [t for j, t in enumerate(terms) if j != k and t is not None]
+        line_terms = model.terminals_of_line(line_id) if line_id is not None else ()
+        if other and len(line_terms) == 2:
+            rest = [t for t in line_terms if t.id != other[0].id]
+            if len(rest) == 1:
+                terms[k], how[k] = rest[0], "the line's other terminal"
+                continue
+        known = ", ".join(f"{x.id} (station {x.station}, line {x.line})"
+                          for x in model.terminals) or "(none)"
+        on = f" on line {line_id}" if line_id else ""
+        raise ModelError(f"{model.source_name}: record of station {ends[k].station!r}: "
+                         f"{problems[k]} at that station{on}; model terminals are {known}; "
+                         f"give --line or pair explicitly")
+    for k, t in enumerate(terms):
         if t.line != line_id:
             raise ModelError(f"{model.source_name}: terminal {t.id} is on line {t.line}, not on "
                              f"line {line_id}")
-        if any(x.id == t.id for x in terms):
+        if any(x.id == t.id for x in terms[:k]):
             raise ModelError(f"{model.source_name}: two records paired with terminal {t.id}")
-        terms.append(t)
-        how.append(why)
     if len(terms) == 2 and terms[0].bus == terms[1].bus:
         raise ModelError(f"{model.source_name}: terminals {terms[0].id} and {terms[1].id} are "
                          f"at the same end of line {line_id}")

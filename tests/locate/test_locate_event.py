@@ -137,3 +137,27 @@ def test_unsynchronised_bolted_three_phase_takes_angle_from_prefault():
     assert rep.distance_km == pytest.approx(12.0, abs=0.01)
     unsync = next(m for m in rep.methods if m.method == "two_ended_unsync")
     assert unsync.extra["sync_angle_deg"] == pytest.approx(-114.59155902616465, abs=0.01)
+
+
+def test_station_names_paired_by_their_words_and_the_line_s_other_end():
+    # a recorder that names its station "VELLMOOR 230KV SUBSTATION" pairs with the model's
+    # VELLMOOR terminal by the words of the name; a record whose station the model does
+    # not know ("FIELD DFR 7") pairs, beside a paired one, with the line's other terminal
+    from eventlab.locate.model_link import pair_ends
+
+    model = two_source_model()
+    res = solve_fault(model, FaultSpec("L1", 0.35, "BG", 2.0))
+    near = dataclasses.replace(phasors_from_solution(res, model, "VM-L1"), terminal_id=None,
+                               station="Vellmoor 230kV substation")
+    far = dataclasses.replace(phasors_from_solution(res, model, "CR-L1"), terminal_id=None,
+                              station="FIELD DFR 7")
+    p = pair_ends(model, [near, far])
+    assert [t.id for t in p.terminals] == ["VM-L1", "CR-L1"]
+    assert p.how == ("station name (partial match)", "the line's other terminal")
+    p = pair_ends(model, [far, near])
+    assert [t.id for t in p.terminals] == ["CR-L1", "VM-L1"]
+    rep = locate_event(model, [far, near])
+    assert rep.distance_km == pytest.approx(65.0, abs=1e-3)
+    # one unknown record alone cannot be placed
+    with pytest.raises(ModelError, match="FIELD DFR 7"):
+        pair_ends(model, [far])
