@@ -839,7 +839,7 @@ def _stages(t, v, i, v_ph, i_ph, n, fs, k_on, run_end, poles, kind, mitigate, ta
             # offset term too: behind a source of another X/R they carry one
             full = steady_window(t, ww, bounds[j + 1][0] if j + 1 < len(bounds) else stop, n)
             if full.end_index >= n - 1:
-                length, wi = _steady_length(i, full, n, fs, tau_given)
+                length, wi, k_dep = _steady_length(i, full, n, fs, tau_given)
                 sw = steady_window(t, ww, full.start_index + length + 1, n)
                 wv = fault_window_current(v, sw.end_index, n, fs, None, length)
                 ii, vv, ww = wi.phasor, wv.phasor, sw
@@ -860,11 +860,17 @@ def _stages(t, v, i, v_ph, i_ph, n, fs, k_on, run_end, poles, kind, mitigate, ta
                                                        * wv.residual + 0.0005)))
                         if changed:
                             i_last = None
-                            flags.append(f"fault at {t[k_on]:.4f} s: currents and voltages "
-                                         f"changed at {t[sw.end_index + 1]:.4f} s, before "
-                                         f"this terminal's poles opened (the other end "
-                                         f"clearing first, or the fault changing): the "
-                                         f"fault window ends there")
+                            k_c = k_dep if k_dep is not None else sw.end_index + 1
+                            held = k_c - n // 8 < sw.start_index + n
+                            flags.append(
+                                f"fault at {t[k_on]:.4f} s: currents and voltages changed at "
+                                f"about {t[min(k_c, n_t - 1)]:.4f} s, before this terminal's "
+                                f"poles opened (the other end clearing first, or the fault "
+                                f"changing): " + (
+                                    "it came within two cycles of inception, so the one-cycle "
+                                    "fault window holds part of it and this end's phasors "
+                                    "mix two states" if held else
+                                    "the fault window ends before it"))
                         else:
                             i_last = _ro_real(wi_f.residual)
                 if j == 0:
@@ -958,13 +964,13 @@ def _steady_length(i, sw: Window, n: int, fs: float, tau_s: float | None):
     depart from the state of its first cycle (:func:`departure`: the other end
     opened first, a CT began to saturate; a breaker interrupts at a current
     zero, so the change grows from nothing and is seen a few samples late),
-    at least one cycle.  Returns ``(length, WindowFit)``.
+    at least one cycle.  Returns ``(length, WindowFit, departure index or None)``.
     """
     start = sw.start_index
     longest = max(sw.end_index - start + 1, n)
     k_dep = departure(i, start, start + longest, n, None if tau_s is None else tau_s * fs)
     length = longest if k_dep is None else max(min(k_dep - n // 8 - start, longest), n)
-    return length, fault_window_current(i, start + length - 1, n, fs, tau_s, length)
+    return length, fault_window_current(i, start + length - 1, n, fs, tau_s, length), k_dep
 
 
 def _ro_real(x) -> np.ndarray:
