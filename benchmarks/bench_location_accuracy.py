@@ -118,6 +118,9 @@ def ends_of(records, model):
 def main(argv=None) -> int:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--quick", action="store_true", help="a subset of the grid (< 2 minutes)")
+    ap.add_argument("--remote-delay", type=float, default=0.0, metavar="S",
+                    help="sequential clearing: CARDON REACH trips and opens this much later "
+                         "than VELLMOOR [s] (negative: earlier; default 0, as in the README)")
     args = ap.parse_args(argv)
     base = load_model(ROOT / "models" / "northmarch_230kv.toml")
     length = base.line(LINE).length_km
@@ -137,7 +140,8 @@ def main(argv=None) -> int:
                               inception_angle_deg=c["angle"], relay_time_s=0.03,
                               clear_after_s=0.08, duration_s=0.25,
                               samples_per_cycle=c["spc"], noise=0.001, seed=7,
-                              anti_alias_hz=AA_FRACTION * c["spc"] * f_hz)
+                              anti_alias_hz=AA_FRACTION * c["spc"] * f_hz,
+                              remote_delay_s=args.remote_delay)
         sim = simulate(truth_model, spec)
         d_true = c["fraction"] * length
         ends = ends_of(sim.records, truth_model)
@@ -185,8 +189,10 @@ def main(argv=None) -> int:
                         worst[(label, name)] = (err, m.method, c)
     elapsed = time.perf_counter() - t_start
     mode = "quick" if args.quick else "full"
+    seq = (f", CARDON REACH clearing {1e3 * args.remote_delay:+.0f} ms after VELLMOOR"
+           if args.remote_delay else "")
     print(f"# Location accuracy, {len(cases)} simulated cases ({mode} grid), line {LINE} "
-          f"{length} km, anti-aliasing at {AA_FRACTION:g} fs, {elapsed:.0f} s")
+          f"{length} km, anti-aliasing at {AA_FRACTION:g} fs{seq}, {elapsed:.0f} s")
     for label in ("true", "perturbed"):
         print()
         print(f"model: {label}" + (" (remote source 30 % weaker, local 15 % stronger, line Z0 "

@@ -20,7 +20,6 @@ from eventlab.errors import SignalError
 from eventlab.faulttypes import NO_FAULT, faulted_phases
 from eventlab.signals.classify import ABC_SAG, ABC_STEP, Classification, classify_fault
 from eventlab.signals.phasors import (
-    SQRT2,
     dft_phasors,
     fault_window_current,
     window_fit,
@@ -915,10 +914,10 @@ def saturating_phases(i_fault, residual) -> np.ndarray:
 
 
 #: the fault's first-cycle model, carried forward, must miss a larger current by more
-#: than this many times its in-window residual RMS and PREDICTION_REL of its peak, in
-#: three of eight samples, for the state to count as changed (common practice, no
-#: source; sequential clearing changed the currents by 5-50 % on simulated records)
-PREDICTION_SIGMAS = 6.0
+#: than this fraction of its fundamental, at the fundamental (one-cycle DFT of the
+#: miss), for the state to count as changed (common practice, no source; sequential
+#: clearing changed the currents by 5-50 % on simulated records, while ringing and a
+#: second offset component leave well under 1 % at the fundamental)
 PREDICTION_REL = 0.02
 #: where the window was cut short: the voltages' fit over the whole steady part
 #: leaving more than this factor (+0.05 %) of the cut window's says the network
@@ -932,39 +931,40 @@ def departure(x, start: int, stop: int, n: int, tau_samples=None) -> int | None:
 
     The sinusoid-plus-offset fitted to ``x[:, start:start + n]``
     (:func:`~eventlab.signals.phasors.window_fit`) is carried forward to
-    ``stop``; the departure is the first sample where a channel carrying at
-    least half the largest fundamental misses it by more than
-    ``max(PREDICTION_SIGMAS x residual RMS, PREDICTION_REL x peak)`` and does
-    so in at least three of the eight samples from there.  None: no departure.
+    ``stop``, and the one-cycle DFT of what it misses is taken along the way
+    (ringing and harmonics, which a sample-by-sample test would mistake for a
+    change, fall out).  Where that exceeds ``PREDICTION_REL`` of the
+    fundamental in a channel carrying at least half the largest one, the
+    departure is the last earlier sample at which every such channel still
+    missed by under a quarter of that: where the miss began to grow.  None:
+    no departure.
     """
     if stop <= start + n:
         return None
-    ph, tau, off, res = window_fit(x, start + n - 1, n, tau_samples)
+    ph, tau, off, _ = window_fit(x, start + n - 1, n, tau_samples)
     mags = np.abs(ph)
     big = np.nonzero(mags >= 0.5 * mags.max())[0] if mags.max() > 0 else np.arange(0)
     if not big.size:
         return None
-    k = np.arange(start + n, stop)
-    miss = np.abs(x[big][:, k] - window_model(ph[big], tau[big], off[big], start, k, n))
-    thr = np.maximum(PREDICTION_SIGMAS * res[big] * mags[big],
-                     PREDICTION_REL * SQRT2 * mags[big])
-    over = (miss > thr[:, None]).any(axis=0)
-    width = 8
-    c = np.concatenate([[0], np.cumsum(over)])
-    for j in np.nonzero(over)[0]:
-        if c[min(j + width, over.size)] - c[j] >= min(3, over.size - j):
-            return int(k[j])
-    return None
+    k = np.arange(start, stop)
+    miss = x[big][:, k] - window_model(ph[big], tau[big], off[big], start, k, n)
+    rel = np.abs(dft_phasors(miss, n)) / mags[big][:, None]       # (c, len), NaN first n-1
+    rel = np.where(np.isfinite(rel), rel, 0.0)
+    over = np.nonzero((rel[:, n:] > PREDICTION_REL).any(axis=0))[0]
+    if not over.size:
+        return None
+    j_cross = n + int(over[0])
+    quiet = np.nonzero((rel[:, n - 1:j_cross] <= 0.25 * PREDICTION_REL).all(axis=0))[0]
+    j_start = n - 1 + int(quiet[-1]) if quiet.size else n - 1
+    return int(start + j_start)
 
 
 def _steady_length(i, sw: Window, n: int, fs: float, tau_s: float | None):
     """Longest window from ``sw``'s start over which the currents stay one steady state.
 
-    The window ends an eighth of a cycle before the currents are seen to
-    depart from the state of its first cycle (:func:`departure`: the other end
-    opened first, a CT began to saturate; a breaker interrupts at a current
-    zero, so the change grows from nothing and is seen a few samples late),
-    at least one cycle.  Returns ``(length, WindowFit, departure index or None)``.
+    The window ends an eighth of a cycle before the currents depart from the
+    state of its first cycle (:func:`departure`: the other end opened first, a
+    CT began to saturate), at least one cycle.  Returns ``(length, WindowFit, departure index or None)``.
     """
     start = sw.start_index
     longest = max(sw.end_index - start + 1, n)
