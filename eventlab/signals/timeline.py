@@ -913,8 +913,8 @@ def saturating_phases(i_fault, residual) -> np.ndarray:
     return big & (np.asarray(residual, dtype=float) > CT_DISTORTION_LIMIT)
 
 
-#: the fault's first-cycle model, carried forward, must miss a larger current by more
-#: than this fraction of its fundamental, at the fundamental (one-cycle DFT of the
+#: the fault's first-cycle model, carried forward, must miss a current by more than
+#: this fraction of the largest fundamental, at the fundamental (one-cycle DFT of the
 #: miss), for the state to count as changed (common practice, no source; sequential
 #: clearing changed the currents by 5-50 % on simulated records, while ringing and a
 #: second offset component leave well under 1 % at the fundamental)
@@ -933,22 +933,21 @@ def departure(x, start: int, stop: int, n: int, tau_samples=None) -> int | None:
     (:func:`~eventlab.signals.phasors.window_fit`) is carried forward to
     ``stop``, and the one-cycle DFT of what it misses is taken along the way
     (ringing and harmonics, which a sample-by-sample test would mistake for a
-    change, fall out).  Where that exceeds ``PREDICTION_REL`` of the
-    fundamental in a channel carrying at least half the largest one, the
-    departure is the last earlier sample at which every such channel still
-    missed by under a quarter of that: where the miss began to grow.  None:
-    no departure.
+    change, fall out).  Where that exceeds ``PREDICTION_REL`` of the largest
+    fundamental in any channel (a sound phase too: the other end opening one
+    pole changes it most), the departure is the last earlier sample at which
+    every channel still missed by under a quarter of that: where the miss
+    began to grow.  None: no departure.
     """
     if stop <= start + n:
         return None
     ph, tau, off, _ = window_fit(x, start + n - 1, n, tau_samples)
-    mags = np.abs(ph)
-    big = np.nonzero(mags >= 0.5 * mags.max())[0] if mags.max() > 0 else np.arange(0)
-    if not big.size:
+    scale = float(np.abs(ph).max())
+    if not scale > 0:
         return None
     k = np.arange(start, stop)
-    miss = x[big][:, k] - window_model(ph[big], tau[big], off[big], start, k, n)
-    rel = np.abs(dft_phasors(miss, n)) / mags[big][:, None]       # (c, len), NaN first n-1
+    miss = x[:, k] - window_model(ph, tau, off, start, k, n)
+    rel = np.abs(dft_phasors(miss, n)) / scale                     # (c, len), NaN first n-1
     rel = np.where(np.isfinite(rel), rel, 0.0)
     over = np.nonzero((rel[:, n:] > PREDICTION_REL).any(axis=0))[0]
     if not over.size:
