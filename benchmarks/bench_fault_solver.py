@@ -23,11 +23,10 @@ from __future__ import annotations
 
 import argparse
 import dataclasses
-import math
-import time
 from pathlib import Path
 
 import numpy as np
+from _timing import best_of  # benchmarks/_timing.py
 from power_grid_model import (
     ComponentType,
     DatasetType,
@@ -79,15 +78,6 @@ def pgm_solve(model, m: float) -> complex:
     return out["fault"]["i_f"][0, 0] * np.exp(1j * out["fault"]["i_f_angle"][0, 0])
 
 
-def best_of(fn, repeat: int = 5) -> float:
-    best = math.inf
-    for _ in range(repeat):
-        t = time.perf_counter()
-        fn()
-        best = min(best, time.perf_counter() - t)
-    return best
-
-
 def main() -> None:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--n", type=int, default=300, help="solves per run")
@@ -104,10 +94,11 @@ def main() -> None:
         ref = pgm_solve(model, m)
         assert abs(ours / ref - 1) < 1e-3, (m, ours, ref)
 
-    t_pgm = best_of(lambda: [pgm_solve(model, m) for m in ms])
-    t_fresh = best_of(lambda: [solve_fault(dataclasses.replace(model), FaultSpec("L1", m, "AG"))
-                               for m in ms])
-    t_warm = best_of(lambda: [solve_fault(model, FaultSpec("L1", m, "AG")) for m in ms])
+    t_pgm, _ = best_of(lambda: [pgm_solve(model, m) for m in ms], repeat=5)
+    t_fresh, _ = best_of(lambda: [solve_fault(dataclasses.replace(model), FaultSpec("L1", m, "AG"))
+                               for m in ms], repeat=5)
+    t_warm, _ = best_of(lambda: [solve_fault(model, FaultSpec("L1", m, "AG")) for m in ms],
+                        repeat=5)
     print(f"{n} solves at different positions on {MODEL.name}")
     print(f"  power-grid-model calculate_short_circuit : {t_pgm / n * 1e3:8.3f} ms per solve")
     print(f"  eventlab solve_fault, fresh model        : {t_fresh / n * 1e3:8.3f} ms per solve "

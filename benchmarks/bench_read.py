@@ -19,12 +19,12 @@ Run: ``python benchmarks/bench_read.py [--samples N]``.
 from __future__ import annotations
 
 import argparse
-import time
 import warnings
 from pathlib import Path
 
 import comtrade
 import numpy as np
+from _timing import best_of  # benchmarks/_timing.py
 
 from eventlab.records import make_record, read_record, write_record
 
@@ -48,15 +48,6 @@ def make_big_record(n_samples: int, seed: int = 0):
     return make_record("VELLMOOR", RATE_HZ, analog, status, frequency_hz=60.0)
 
 
-def best_of(fn, repeat: int = 3) -> float:
-    best = np.inf
-    for _ in range(repeat):
-        t0 = time.perf_counter()
-        fn()
-        best = min(best, time.perf_counter() - t0)
-    return best
-
-
 def main(argv=None) -> int:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--samples", type=int, default=38400)
@@ -71,10 +62,10 @@ def main(argv=None) -> int:
         size_mb = Path(dat).stat().st_size / 1e6
         with warnings.catch_warnings():
             warnings.simplefilter("ignore")
-            t_ref = best_of(lambda c=cfg, d=dat: comtrade.load(c, d, use_numpy_arrays=True))
+            t_ref, _ = best_of(lambda c=cfg, d=dat: comtrade.load(c, d, use_numpy_arrays=True))
             ref32 = comtrade.load(cfg, dat, use_numpy_arrays=True)
             ref64 = comtrade.load(cfg, dat, use_numpy_arrays=True, use_double_precision=True)
-        t_own = best_of(lambda c=cfg: read_record(c, values="primary"))
+        t_own, _ = best_of(lambda c=cfg: read_record(c, values="primary"))
         own = read_record(cfg, values="primary")
         same = all(np.array_equal(ch.values, ref64.analog[k], equal_nan=True)
                    and np.array_equal(ch.values.astype(np.float32), ref32.analog[k],

@@ -21,12 +21,12 @@ Run: ``python benchmarks/bench_signal_chain.py``.
 from __future__ import annotations
 
 import json
-import time
 import warnings
 from pathlib import Path
 
 import comtrade
 import numpy as np
+from _timing import best_of  # benchmarks/_timing.py
 
 from eventlab.analysis import analyze
 from eventlab.records import make_record, read_record, write_record
@@ -81,15 +81,6 @@ def make_recorder_file(seed: int = 0):
             status.append((f"{lab} 52A-{ph}", bkr[p], lab))
     return make_record("PELLINGFORD", RATE_HZ, analog, status, frequency_hz=F0_HZ,
                        device="DFR-1")
-
-
-def best_of(fn, repeat: int = 3):
-    best, out = np.inf, None
-    for _ in range(repeat):
-        t0 = time.perf_counter()
-        out = fn()
-        best = min(best, time.perf_counter() - t0)
-    return best, out
 
 
 def chain(cfg: Path) -> tuple[str, object]:

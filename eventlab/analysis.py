@@ -475,8 +475,7 @@ def _terminal(record: Record, k_rec: int, term: TerminalChannels, n: int, fs: fl
     roles = term.roles()
     names_v = [c.name for c in term.voltages]
     names_i = [c.name for c in term.currents]
-    extra = [(c, c.name) for c in (term.neutral_current, term.neutral_voltage,
-                                   term.parallel_residual) if c is not None]
+    extra = [(c, c.name) for c in extra_ch]
     pre: dict[str, complex] = {}
     flt: dict[str, complex] = {}
     rms_pre: dict[str, float] = {}

@@ -1,8 +1,8 @@
 """Electromagnetic-transient engine: three-phase nodal analysis on arrays.
 
-A small EMTP-style solver.  Every branch of the circuit is an element (or a
-coupled group of up to three elements) between two nodes or a node and
-ground:
+A small time-domain solver with trapezoidal companion models (Dommel).
+Every branch of the circuit is an element (or a coupled group of up to three
+elements) between two nodes or a node and ground:
 
 * coupled series R-L groups (sources with their EMF, line sections,
   transformer leakage with an ideal turns ratio), matrices ``R`` [ohm] and

@@ -356,8 +356,9 @@ def _window_length(end_index: int, n: int, length: int | None, n_samples: int) -
     return w_len
 
 
-#: bounds of the fitted offset time constant [cycles] (transmission and
-#: sub-transmission X/R of about 1.5 to 110 at the fault; common practice, no source)
+#: bounds of the fitted offset time constant [cycles]: X/R = 2 pi tau/T of about 1.6
+#: to 190 at the fault, wider than transmission and sub-transmission systems have
+#: (common practice, no source)
 TAU_FIT_BOUNDS_CYCLES = (0.25, 30.0)
 
 
@@ -513,9 +514,7 @@ def window_phasor_fitted_decay(samples, end_index: int, samples_per_cycle: int,
     Anal. 10(2), 1973; the linear part as in :func:`decay_ls_phasors`.
     """
     x = _as_samples(samples)
-    x2 = np.atleast_2d(x).reshape(-1, x.shape[-1])
-    n = check_samples_per_cycle(samples_per_cycle)
-    ph, taus, offs, res = _fit_window(x2, end_index, n, length, None)
+    ph, taus, offs, res = window_fit(x, end_index, samples_per_cycle, None, length)
     shape = x.shape[:-1]
     if x.ndim == 1:
         return ph[0], taus[:1], offs[:1], res[:1]
@@ -541,13 +540,11 @@ def fault_window_current(samples, end_index: int, samples_per_cycle: int,
         channel (see :func:`window_phasor_fitted_decay`).
     """
     x = _as_samples(samples)
-    x2 = np.atleast_2d(x).reshape(-1, x.shape[-1])
-    n = check_samples_per_cycle(samples_per_cycle)
     fs = float(sample_rate_hz)
     tau_n = None if tau_s is None else float(tau_s) * fs
     if tau_n is not None and not (np.isfinite(tau_n) and tau_n > 0):
         raise SignalError(f"tau_s={tau_s!r}: expected a positive time constant")
-    ph, taus, offs, res = _fit_window(x2, end_index, n, length, tau_n)
+    ph, taus, offs, res = window_fit(x, end_index, samples_per_cycle, tau_n, length)
     shape = x.shape[:-1]
     if tau_s is None:
         tau_s = float(taus[int(np.argmax(np.abs(offs)))] / fs)

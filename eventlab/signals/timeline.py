@@ -915,9 +915,10 @@ def saturating_phases(i_fault, residual) -> np.ndarray:
 
 #: the fault's first-cycle model, carried forward, must miss a current by more than
 #: this fraction of the largest fundamental, at the fundamental (one-cycle DFT of the
-#: miss), for the state to count as changed (common practice, no source; sequential
-#: clearing changed the currents by 5-50 % on simulated records, while ringing and a
-#: second offset component leave well under 1 % at the fundamental)
+#: miss), for the state to count as changed.  Measured on the 40 cases of the
+#: location benchmark's quick grid: before the far end opens the miss stays within
+#: 0.33 % (95th percentile 0.18 %); a cycle after it opened 25 ms early it is 2.3 to
+#: 67 % (common practice for the margin, no source)
 PREDICTION_REL = 0.02
 #: where the window was cut short: the voltages' fit over the whole steady part
 #: leaving more than this factor (+0.05 %) of the cut window's says the network

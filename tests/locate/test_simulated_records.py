@@ -1,8 +1,8 @@
 """Location on records from the time-domain simulator, through the signal chain.
 
 Truth: the simulation's own fault position and resistance
-(:mod:`eventlab.network.simulate`, an EMTP-type engine independent of the
-phasor fault solver the model fit uses).
+(:mod:`eventlab.network.simulate`, a time-domain companion-model engine
+independent of the phasor fault solver the model fit uses).
 """
 
 from __future__ import annotations
