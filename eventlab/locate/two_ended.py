@@ -29,6 +29,7 @@ import numpy as np
 from scipy.optimize import brentq, minimize_scalar
 
 from eventlab.errors import SignalError
+from eventlab.network.longline import equivalent_pi
 from eventlab.symmetrical import abc_to_012, seq012_to_abc
 
 from .estimate import LocatorEstimate
@@ -140,9 +141,11 @@ def to_fault(line: LineData, d_km: float, v_012: np.ndarray, i_012: np.ndarray,
 
     Notes
     -----
-    Nominal pi per piece: ``I_s = I - (Y/2) V``, ``V' = V - Z I_s``,
-    ``I' = I_s - (Y/2) V'`` with ``Z = z l``, ``Y = j w c l`` (c1 for the
-    positive and negative, c0 for the zero sequence).
+    Equivalent pi per piece (exact for the distributed line,
+    :func:`eventlab.network.longline.equivalent_pi`): ``I_s = I - (Y'/2) V``,
+    ``V' = V - Z' I_s``, ``I' = I_s - (Y'/2) V'`` with ``Z'``, ``Y'/2`` from
+    ``Z = z l`` and ``Y = j w c l`` (c1 for the positive and negative, c0 for
+    the zero sequence).
     """
     v = np.array(v_012, dtype=complex)
     i = np.array(i_012, dtype=complex)
@@ -154,7 +157,7 @@ def to_fault(line: LineData, d_km: float, v_012: np.ndarray, i_012: np.ndarray,
         if piece > 0:
             z = np.array([sec.z0_ohm_per_km, sec.z1_ohm_per_km, sec.z1_ohm_per_km]) * piece
             c = np.array([sec.c0_nf_per_km, sec.c1_nf_per_km, sec.c1_nf_per_km]) * 1e-9 * piece
-            half = 0.5j * omega * c
+            z, half = equivalent_pi(z, 1j * omega * c)
             i_s = i - half * v
             v = v - z * i_s
             i = i_s - half * v

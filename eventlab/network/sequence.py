@@ -8,11 +8,13 @@ mutually coupled parallel line.
 
 Elements (per unit on ``base_mva`` and each zone's kV, see :mod:`.perunit`):
 
-* line piece of length ``l`` (nominal pi): series ``z_s l``, half of the shunt
-  ``j w c_s l`` at each end (negative sequence = positive);
+* line piece of length ``l``: the exact (distributed-parameter) equivalent pi
+  of series ``z_s l`` and shunt ``j w c_s l`` (:mod:`.longline`; without
+  capacitance the series impedance alone), negative sequence = positive;
 * two lines with zero-sequence mutual coupling ``z0m``: in the zero sequence a
   coupled pair with series matrix ``[[z0a, z0m], [z0m, z0b]] l`` inverted to
-  ``Y_b`` and stamped as ``[[Y_b, -Y_b], [-Y_b, Y_b]]``; modelled only for two
+  ``Y_b`` (the matrix equivalent pi with the shunt capacitance, :mod:`.longline`)
+  and stamped as ``[[Y_b + Y_h, -Y_b], [-Y_b, Y_b + Y_h]]``; modelled only for two
   single-section lines of equal length between the same two buses;
 * transformer: series ``z`` behind an ideal phase shifter ``t``
   (``V_lv' = t V_hv``), ``Y_prim = (1/z) [[1, -conj(t)], [-t, 1]]`` with
@@ -34,6 +36,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from eventlab.errors import ModelError
+from eventlab.network.longline import equivalent_pi, equivalent_pi_matrix
 from eventlab.network.model import Line, LineSection, NetworkModel
 from eventlab.network.perunit import transformer_z_pu, voltage_zones, z_base_ohm
 
@@ -105,8 +108,8 @@ def _omega(model: NetworkModel) -> float:
 def _piece_y(sec: LineSection, length_km: float, zb: float, w: float) -> tuple[np.ndarray, ...]:
     out = []
     for z_km, c_nf in ((sec.z0_ohm_per_km, sec.c0_nf_per_km), (sec.z1_ohm_per_km, sec.c1_nf_per_km)):
-        ys = zb / (z_km * length_km)
-        ysh = 0.5j * w * c_nf * 1e-9 * length_km * zb
+        z_s, y_h = equivalent_pi(z_km * length_km / zb, 1j * w * c_nf * 1e-9 * length_km * zb)
+        ys, ysh = 1.0 / complex(z_s), complex(y_h)
         out.append(np.array([[ys + ysh, -ys], [-ys, ys + ysh]], dtype=complex))
     return out[0], out[1], out[1]
 
@@ -118,11 +121,12 @@ def _pair_y(a: LineSection, b: LineSection, z0m_km: complex, length_km: float, z
         za = (a.z0_ohm_per_km if seq == 0 else a.z1_ohm_per_km) * length_km / zb
         zbb = (b.z0_ohm_per_km if seq == 0 else b.z1_ohm_per_km) * length_km / zb
         zm = z0m_km * length_km / zb if seq == 0 else 0.0
-        yb = np.linalg.inv(np.array([[za, zm], [zm, zbb]], dtype=complex))
         ca = a.c0_nf_per_km if seq == 0 else a.c1_nf_per_km
         cb = b.c0_nf_per_km if seq == 0 else b.c1_nf_per_km
-        ysh = 0.5j * w * 1e-9 * length_km * zb * np.array([ca, cb, ca, cb])
-        yp = np.block([[yb, -yb], [-yb, yb]]) + np.diag(ysh)
+        y_tot = 1j * w * 1e-9 * length_km * zb * np.diag([ca, cb])
+        z_s, y_h = equivalent_pi_matrix(np.array([[za, zm], [zm, zbb]], dtype=complex), y_tot)
+        yb = np.linalg.inv(z_s)
+        yp = np.block([[yb + y_h, -yb], [-yb, yb + y_h]])
         out.append(yp)
     return out[0], out[1], out[1]
 

@@ -1,8 +1,9 @@
 """Solver vs an independent phase-domain nodal solution (no symmetrical components).
 
 The a-b-c network is built here element by element and solved with numpy:
-sources as balanced EMFs behind 3x3 impedances, transposed lines as nominal pi
-pieces with self (z0 + 2 z1)/3 and mutual (z0 - z1)/3 per phase (the usual
+sources as balanced EMFs behind 3x3 impedances, transposed lines as exact
+distributed-parameter pieces (the matrix exponential of the telegrapher's
+equations, scipy.linalg.expm) with self (z0 + 2 z1)/3 and mutual (z0 - z1)/3 per phase (the usual
 relation for a transposed line, common practice, no source), zero-sequence
 mutual coupling as a block (z0m / 3) on every pair of phases of the two
 lines, transformers as three single-phase units wired star/delta by their
@@ -17,6 +18,7 @@ import math
 
 import numpy as np
 import pytest
+import scipy.linalg
 
 from eventlab.faulttypes import FAULT_TYPES, faulted_phases
 from eventlab.network.faults import FaultSpec, prefault, solve_fault
@@ -77,6 +79,23 @@ def _zabc(z1, z0, z2=None):
     # z0 + a^2 z1 + a z2) / 3
     c = [(z0 + z1 + z2) / 3, (z0 + A * z1 + A * A * z2) / 3, (z0 + A * A * z1 + A * z2) / 3]
     return np.array([[c[0], c[1], c[2]], [c[2], c[0], c[1]], [c[1], c[2], c[0]]])
+
+
+def _line_two_port(z, y):
+    """Nodal admittance ``[[Y_aa, Y_ab], [Y_ba, Y_bb]]`` of a uniform line piece.
+
+    Exact distributed-parameter solution from the transfer matrix
+    ``[V_b; I_b] = expm([[0, -Z], [-Y, 0]]) [V_a; I_a]`` of the telegrapher's
+    equations ``dV/dx = -z I``, ``dI/dx = -y V`` (``Z``, ``Y`` the piece's
+    totals; e.g. Grainger & Stevenson, *Power System Analysis*, 1994, ch. 6,
+    from memory), with scipy's matrix exponential: independent of the series
+    eventlab evaluates.  Rows give the currents into the piece at ``a``, ``b``.
+    """
+    n = z.shape[0]
+    t = scipy.linalg.expm(np.block([[np.zeros((n, n)), -z], [-y, np.zeros((n, n))]]))
+    t11, t12, t21, t22 = t[:n, :n], t[:n, n:], t[n:, :n], t[n:, n:]
+    t12i = np.linalg.inv(t12)
+    return np.block([[-t12i @ t11, t12i], [-t21 + t22 @ t12i @ t11, -t22 @ t12i]])
 
 
 class PhaseNetwork:
@@ -144,11 +163,10 @@ def _build(line_id=None, fraction=None):
     ends = {}  # (line, bus) -> (nodes at the bus, series admittance rows, piece info)
 
     def pi_piece(a, b, z1k, z0k, c1, c0, length):
-        y = net.series(a, b, _zabc(z1k * length, z0k * length))
-        ysh = 1j * W * 1e-9 * length / 2 * _zabc(c1, c0).real  # C matrix, same self/mutual form
-        net.stamp(a, ysh)
-        net.stamp(b, ysh)
-        return (a, b, y, ysh)
+        y = _line_two_port(_zabc(z1k * length, z0k * length),
+                           1j * W * 1e-9 * length * _zabc(c1, c0).real)
+        net.stamp(list(a) + list(b), y)
+        return (a, b, y)
 
     fault_nodes = None
     lines = {ln["id"]: ln for ln in d["line"]}
@@ -170,26 +188,22 @@ def _build(line_id=None, fraction=None):
         za = _zabc(complex(*la["z1_ohm_per_km"]) * ln_, complex(*la["z0_ohm_per_km"]) * ln_)
         zb = _zabc(complex(*lb["z1_ohm_per_km"]) * ln_, complex(*lb["z0_ohm_per_km"]) * ln_)
         zab = np.full((3, 3), zm_km * ln_ / 3)
-        y = net.series(list(prev_a) + list(prev_b), list(na) + list(nb),
-                       np.block([[za, zab], [zab, zb]]))
-        ysh = 1j * W * 1e-9 * ln_ / 2 * _zabc(la.get("c1_nf_per_km", 0.0), la.get("c0_nf_per_km", 0.0)).real
-        for nodes in (prev_a, na):
-            net.stamp(nodes, ysh)
-        pieces_pair.append((list(prev_a) + list(prev_b), list(na) + list(nb), y, ysh))
+        c_a = 1j * W * 1e-9 * ln_ * _zabc(la.get("c1_nf_per_km", 0.0),
+                                          la.get("c0_nf_per_km", 0.0)).real
+        y = _line_two_port(np.block([[za, zab], [zab, zb]]),
+                           np.block([[c_a, np.zeros((3, 3))], [np.zeros((3, 3)), np.zeros((3, 3))]]))
+        net.stamp(list(prev_a) + list(prev_b) + list(na) + list(nb), y)
+        pieces_pair.append((list(prev_a) + list(prev_b), list(na) + list(nb), y))
         if not last and line_id in ("LA", "LB"):
             fault_nodes = na if line_id == "LA" else nb
         prev_a, prev_b = na, nb
     first, lastp = pieces_pair[0], pieces_pair[-1]
 
     def pair_current(piece, side, which, v):
-        a, b, y, ysh = piece
-        va, vb = v[a], v[b]
-        i_series = y @ (va - vb) if side == 0 else y @ (vb - va)
-        sl = slice(0, 3) if which == "LA" else slice(3, 6)
-        i = i_series[sl]
-        if which == "LA":
-            i = i + ysh @ (va[0:3] if side == 0 else vb[0:3])
-        return i
+        a, b, y = piece
+        i = y @ np.concatenate([v[a], v[b]])      # into the piece at [a (6), b (6)]
+        i = i[:6] if side == 0 else i[6:]
+        return i[0:3] if which == "LA" else i[3:6]
 
     ends[("LA", "W")] = lambda v: pair_current(first, 0, "LA", v)
     ends[("LA", "E")] = lambda v: pair_current(lastp, 1, "LA", v)
@@ -220,8 +234,8 @@ def _build(line_id=None, fraction=None):
                 prev = nxt
             pos += s["length_km"]
         p0, pn = pieces[0], pieces[-1]
-        ends[(lid, ln["from"])] = lambda v, p=p0: p[2] @ (v[p[0]] - v[p[1]]) + p[3] @ v[p[0]]
-        ends[(lid, ln["to"])] = lambda v, p=pn: p[2] @ (v[p[1]] - v[p[0]]) + p[3] @ v[p[1]]
+        ends[(lid, ln["from"])] = lambda v, p=p0: (p[2] @ np.concatenate([v[p[0]], v[p[1]]]))[:3]
+        ends[(lid, ln["to"])] = lambda v, p=pn: (p[2] @ np.concatenate([v[p[0]], v[p[1]]]))[3:]
 
     # transformers: three single-phase units; winding primitive (1/z) [[r^2, -r], [-r, 1]]
     # on (v_hv_winding, v_lv_winding), r = N_lv / N_hv, leakage z on the LV winding
