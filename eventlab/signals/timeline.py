@@ -173,7 +173,8 @@ def detect_onset(delta, search: tuple[int, int], baseline: tuple[int, int],
                  peak: np.ndarray | None = None, *, baseline_max: bool = False) -> int | None:
     """First sample of a disturbance in ``delta`` (c, n) within ``search`` = [a, b).
 
-    A channel exceeds its threshold ``5 sigma + 0.005 peak``, with ``sigma``
+    A channel exceeds its threshold when it departs from the baseline's median
+    by ``5 sigma + 0.005 peak``, with ``sigma``
     from the median absolute deviation of ``delta`` over ``baseline`` (or, with
     ``baseline_max``, ``1.2 max|delta|`` over the baseline instead of
     ``5 sigma``: for a baseline that holds a decaying offset), ``peak`` the
@@ -187,14 +188,18 @@ def detect_onset(delta, search: tuple[int, int], baseline: tuple[int, int],
         return None
     b0, b1 = max(baseline[0], 0), max(min(baseline[1], d.shape[-1]), 0)
     level = np.zeros(d.shape[0])
+    centre = np.zeros((d.shape[0], 1))
     if b1 - b0 >= 4:
         base = d[:, b0:b1]
         base = np.where(np.isfinite(base), base, 0.0)
         if baseline_max:
             level = 1.2 * np.max(np.abs(base), axis=1)
         else:
-            med = np.median(base, axis=1, keepdims=True)
-            level = ONSET_SIGMAS * 1.4826 * np.median(np.abs(base - med), axis=1)
+            # departures from the baseline's own median: a dead line's trapped charge
+            # leaking away gives a superimposed value that sits off zero for cycles
+            centre = np.median(base, axis=1, keepdims=True)
+            level = ONSET_SIGMAS * 1.4826 * np.median(np.abs(base - centre), axis=1)
+    d = d - centre
     pk = np.zeros(d.shape[0]) if peak is None else np.asarray(peak, dtype=float)
     thr = level + ONSET_REL * pk
     seg = np.abs(d[:, a:min(b + 7, d.shape[-1])])

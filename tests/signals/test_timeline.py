@@ -169,3 +169,26 @@ def test_short_fault_window_flagged(ftype):
     assert iv.fault.start_index > iv.start_index
     assert tl.fault_type == ftype
     assert abs(tl.inception_s - e["truth"]["inception_s"]) <= 1 / e["fs_hz"]
+
+
+def test_onset_is_a_departure_from_the_baseline_not_from_zero():
+    # a dead line's trapped charge leaking away: its superimposed value (x(t) - x(t-T))
+    # sits off zero by the decay over one cycle, for many cycles; no onset there, and
+    # a later step is found where it is (common practice, no source)
+    from eventlab.signals.timeline import detect_onset
+    n = 32
+    rng = np.random.default_rng(3)
+    t = np.arange(40 * n)
+    v = 180e3 * np.exp(-t / (10.0 * n)) + rng.normal(0.0, 150.0, t.size)
+    d = superimposed(v[None, :], n, n)
+    peak = np.array([2e5])
+    base, search = (10 * n, 11 * n), (11 * n, 13 * n)
+    b = d[0, base[0]:base[1]]
+    spread = 5 * 1.4826 * np.median(np.abs(b - np.median(b))) + 0.005 * peak[0]
+    assert np.all(np.abs(b) > spread)          # off zero by more than the threshold
+    assert detect_onset(d, search, base, peak) is None
+    v2 = v.copy()
+    v2[12 * n:] += 1.5e4 * np.sin(2 * np.pi * t[12 * n:] / n)
+    d2 = superimposed(v2[None, :], n, n)
+    k = detect_onset(d2, search, base, peak)
+    assert k is not None and abs(k - 12 * n) <= 2
