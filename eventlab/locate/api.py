@@ -293,7 +293,7 @@ def locate_event(model: NetworkModel, ends: Sequence[TerminalPhasors], line: str
     assumptions: list[str] = [
         "single-ended impedance methods: series-impedance line (shunt capacitance "
         "neglected); two-ended methods and the model fit: the model's line with its "
-        "capacitance (nominal pi per piece)"]
+        "capacitance (distributed: exact equivalent pi per piece)"]
     if fit is not None and two is not None and fit.chi2_scale > opts.max_fit_residual_scale:
         notes.append(f"model fit residual {fit.chi2_scale:.1f} times the measurement accuracy "
                      f"(more than {opts.max_fit_residual_scale:g}): the model does not match "

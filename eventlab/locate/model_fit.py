@@ -426,8 +426,9 @@ def fit_fault(model: NetworkModel, line_id: str, ends: Sequence[TerminalPhasors]
     a, _ = prob.states(bases, ends)
     a = tuple(complex(v) for v in a) + (0j,) * (2 - len(a))
     assumptions = (
-        "the faulted line as the network model has it (series impedance, capacitance as "
-        "nominal pi); loads are the model's linear elements",
+        "the faulted line as the network model has it (series impedance and capacitance "
+        "per km, distributed: exact equivalent pi per piece); loads are the model's linear "
+        "elements",
         "source EMFs calibrated to the measured pre-fault positive-sequence voltage and "
         "current; the fault is fitted on superimposed (fault minus pre-fault) phasors",
         f"source impedance scales fitted with a log-normal prior (sigma {opts.source_prior})"

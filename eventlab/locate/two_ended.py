@@ -13,9 +13,9 @@ unknown rotation ``exp(j delta)`` that the magnitudes of both sides of (1)
 eliminate.
 
 Line charging: where the model gives shunt capacitance, each piece of line
-between a terminal, the section joints and the fault point is a nominal pi
-(half the piece's capacitance at each of its ends), the same representation
-as the network model's fault solver; ``V_f(d)`` and the current arriving at
+between a terminal, the section joints and the fault point is its exact
+equivalent pi (the distributed line, :mod:`eventlab.network.longline`), the
+same representation as the network model's fault solver; ``V_f(d)`` and the current arriving at
 the fault are then propagated piece by piece from each end per sequence, and
 (1) becomes ``V_f,L(d) = V_f,R(L - d)``.  Without capacitance this reduces to
 the series form above.

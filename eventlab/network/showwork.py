@@ -143,7 +143,9 @@ def show_work(model: NetworkModel, result: FaultResult) -> list[str]:
                     f"z0 = {_c(sec.z0_ohm_per_km * sec.length_km / zb)} pu")
                 pos += sec.length_km
         if any(sec.c1_nf_per_km for sec in ln.sections):
-            add("      shunt capacitance as nominal pi per piece: B = 2 pi f C l, half at each end")
+            add("      shunt capacitance distributed along the line: each piece is its exact "
+                "equivalent pi, Z' = Z sinh(g)/g and Y'/2 = (Y/2) tanh(g/2)/(g/2) with "
+                "g = sqrt(Z Y), Y = j 2 pi f C l")
         if ln.mutual is not None:
             zm = ln.mutual.z0m_ohm_per_km * ln.length_km / zb
             add(f"      zero-sequence mutual with {ln.mutual.line}: Z0m = {_c(zm)} pu")

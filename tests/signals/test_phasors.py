@@ -197,3 +197,32 @@ def test_property_any_rate_amplitude_phase(n, kind, xm, phi, dc):
     ref = xm / np.sqrt(2) * np.exp(1j * phi)
     assert np.max(tve(ph, ref)) <= TVE_LIMIT
     assert np.max(np.abs(ph - ref)) <= 1e-9 * (xm + abs(dc))
+
+
+@pytest.mark.parametrize("n", [16, 64, 256])
+def test_fault_window_fit_rejects_line_ringing(n):
+    # fundamental + decaying offset + a lightly damped ringing well above the
+    # fundamental (a line's travelling waves, or what of them a recorder folds
+    # down); reference: the generating phasor (C37.118.1 TVE, from memory)
+    from eventlab.signals.phasors import fault_window_current, fit_prefilter
+    f0, fs = 60.0, n * 60.0
+    t = np.arange(8 * n) / fs
+    k0 = 3 * n
+    on = t >= t[k0]
+    tp = np.clip(t - t[k0], 0.0, None)
+    ring_hz = min(1600.0, 0.45 * fs)
+    x = 1000.0 * np.cos(2 * np.pi * f0 * t + 0.7) + on * (
+        600.0 * np.exp(-tp / 0.03) + 400.0 * np.exp(-tp / 0.05) * np.sin(2 * np.pi * ring_hz * t))
+    want = 1000.0 / np.sqrt(2) * np.exp(0.7j)
+    end = k0 + 4 * n - 1                         # three cycles from one after inception
+    got = fault_window_current(x, end, n, fs, None, 3 * n).phasor
+    plain = window_phasor_fitted_decay(x, end, n, 3 * n)[0]
+    e_got, e_plain = abs(got / want - 1), abs(plain / want - 1)
+    assert e_got < 0.002
+    assert e_got < 0.5 * e_plain                 # the filter is what rejects it
+    # a pure sinusoid comes through with its phasor unchanged (gain compensated)
+    y, gain = fit_prefilter(np.cos(2 * np.pi * f0 * t + 0.7), end, n)
+    assert y.shape == (end + 1,) and abs(gain) > 0.5
+    clean = fault_window_current(1000.0 * np.cos(2 * np.pi * f0 * t + 0.7), end, n, fs,
+                                 None, 3 * n).phasor
+    assert abs(clean / want - 1) < 1e-6
