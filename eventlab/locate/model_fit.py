@@ -86,7 +86,16 @@ class FitOptions:
         quantisation), the weight of the residual.
     floor_fraction : float
         Further random error of each phasor [fraction of the largest phasor of
-        its kind at the same end].
+        its kind at the same end].  The defaults (0.2 % each) are about 2.5
+        times the error measured on the location benchmark's quick grid: the
+        superimposed fault-window phasors of its 40 simulated records (both
+        ends, 16 to 256 samples per cycle, 0.1 % noise, anti-aliasing filter)
+        were off the fault solver's by 0.025 % (median) and 0.08 % (95th
+        percentile) of the nominal voltage and of the largest fault current.
+        At 0.5 % each the source and Z0 priors outweighed the data: with the
+        perturbed model the two-ended answer was 0.35 % off at worst and the
+        single-ended two-phase-to-ground 0.75 %; at 0.2 % 0.10 % and 0.29 %,
+        with the true model unchanged within 0.02 % of the line.
     z0_tolerance, z1_tolerance : float
         One-sigma tolerance of the line's Z0 and Z1 [fraction].
     coverage_factor : float
@@ -100,8 +109,8 @@ class FitOptions:
     source_prior: float = 0.5
     ct_class: str = "5P"
     vt_class: str = "0.5"
-    noise_fraction: float = 0.005
-    floor_fraction: float = 0.005
+    noise_fraction: float = 0.002
+    floor_fraction: float = 0.002
     z0_tolerance: float = 0.05
     z1_tolerance: float = 0.02
     coverage_factor: float = 2.0
