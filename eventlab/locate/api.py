@@ -18,9 +18,9 @@ from .inputs import TerminalPhasors
 from .model_fit import CT_CLASSES, VT_CLASSES, FitOptions, ModelFitResult, fit_fault
 from .model_link import (
     distribution_angle,
+    external_two_port,
     line_from,
     pair_ends,
-    source_impedances,
 )
 from .single_ended import eriksson, modified_takagi, reactance, takagi
 from .structures import StructureSpan, locate_structures
@@ -216,14 +216,12 @@ def locate_event(model: NetworkModel, ends: Sequence[TerminalPhasors], line: str
         start = mt.fraction
     if mt is not None:
         methods.append(mt)
-    far_bus = model.line(line_id).other_end(ref_t.bus)
     try:
-        z_loc = source_impedances(model, ref_t.bus)
-        z_rem = source_impedances(model, far_bus)
+        ext = external_two_port(model, line_id, ref_t.bus)
     except ModelError as exc:
         notes.append(f"eriksson: not run ({exc})")
     else:
-        est = _try(notes, "eriksson", eriksson, ref_end, ld, z_loc, z_rem)
+        est = _try(notes, "eriksson", eriksson, ref_end, ld, external=ext)
         if est is not None:
             methods.append(est)
 

@@ -15,6 +15,8 @@ import numpy as np
 from eventlab.errors import ModelError
 from eventlab.network.faults import FaultResult, FaultSpec, solve_fault
 from eventlab.network.model import NetworkModel, Terminal, _station_key
+from eventlab.network.perunit import z_base_ohm
+from eventlab.network.sequence import build_sequence_networks
 
 from .inputs import TerminalPhasors
 from .line import LineData, line_data
@@ -174,6 +176,43 @@ def source_impedances(model: NetworkModel, bus: str) -> tuple[complex, complex]:
     y1 = sum(1.0 / s.z1_ohm for s in src)
     y0 = sum(1.0 / s.z0_ohm for s in src)
     return complex(1.0 / y1), complex(1.0 / y0)
+
+
+def external_two_port(model: NetworkModel, line_id: str, from_bus: str
+                      ) -> tuple[np.ndarray, np.ndarray]:
+    """The network outside a line as impedance matrices at its buses, ``(Z_ext1, Z_ext0)``.
+
+    The line is taken out of the model (with its terminals; a parallel circuit
+    keeps its own impedances but loses the zero-sequence coupling to it) and
+    the 2 x 2 blocks of the bus impedance matrix ``Y^-1`` at ``from_bus`` and
+    the line's other bus are returned per sequence [ohm], ``from_bus`` first.
+    For the Eriksson-type method with a parallel circuit, a mesh or sources
+    behind transformers (:func:`eventlab.locate.single_ended.distribution_factors_network`).
+
+    Raises ModelError when the remaining network cannot be solved (a part of
+    it without a source).
+    """
+    ln = model.line(line_id)
+    far = ln.other_end(from_bus)
+    lines = tuple(dataclasses.replace(x, mutual=None)
+                  if (x.mutual is not None and x.mutual.line == line_id) else x
+                  for x in model.lines if x.id != line_id)
+    rest = dataclasses.replace(model, lines=lines,
+                               terminals=tuple(t for t in model.terminals if t.line != line_id))
+    net = build_sequence_networks(rest)
+    idx = [net.node_names.index(from_bus), net.node_names.index(far)]
+    zb = z_base_ohm(model.bus(from_bus).kv, model.system.base_mva)
+    out = []
+    for y in (net.y[1], net.y[0]):
+        e = np.zeros((y.shape[0], 2), dtype=complex)
+        e[idx[0], 0] = e[idx[1], 1] = 1.0
+        try:
+            z = np.linalg.solve(y, e)[idx, :]
+        except np.linalg.LinAlgError as exc:
+            raise ModelError(f"{model.source_name}: the network without line {line_id} cannot "
+                             f"be solved ({exc})") from None
+        out.append(z * zb)
+    return out[0], out[1]
 
 
 def phasors_from_solution(result: FaultResult, model: NetworkModel, terminal_id: str,

@@ -234,8 +234,37 @@ def distribution_factors(line: LineData, d_km: float, z_local: tuple[complex, co
     return complex(d1), complex(d0)
 
 
-def eriksson(end: TerminalPhasors, line: LineData, z_local: tuple[complex, complex],
-             z_remote: tuple[complex, complex]) -> LocatorEstimate:
+def distribution_factors_network(line: LineData, d_km: float, z_ext1: np.ndarray,
+                                 z_ext0: np.ndarray) -> tuple[complex, complex]:
+    """Current distribution factors ``(D1, D0)`` with the rest of the network as a two-port.
+
+    ``z_ext = [[Z11, Z12], [Z21, Z22]]`` [ohm] per sequence is the impedance
+    matrix of the network outside the faulted line seen at its from-bus (1)
+    and to-bus (2), the line removed (sources, parallel circuits, meshes):
+    the driving-point impedances ``Z11``, ``Z22`` and the transfer impedance
+    ``Z12`` of any path between the buses.  With the fault drawing ``I_f`` at
+    ``d`` and the external voltages ``V = -Z_ext [i_1, i_2]`` (``i_k`` the
+    currents the line draws from bus k), ``V_1 - Z(d) i_1 = V_2 - (Z_L - Z(d)) i_2``
+    and ``i_1 + i_2 = I_f`` give
+
+        D = i_1 / I_f = (Z22 - Z12 + Z_L - Z(d)) / (Z11 + Z22 - Z12 - Z21 + Z_L)
+
+    which is :func:`distribution_factors` for ``Z_ext = diag(Z_S, Z_R)``
+    (circuit analysis, common practice, no source).
+    """
+    z1d, z0d = line.z_to(d_km)
+    out = []
+    for z, zl, zd in ((np.asarray(z_ext1), line.z1_ohm, z1d), (np.asarray(z_ext0), line.z0_ohm, z0d)):
+        num = z[1, 1] - z[0, 1] + zl - zd
+        den = z[0, 0] + z[1, 1] - z[0, 1] - z[1, 0] + zl
+        out.append(complex(num / den))
+    return out[0], out[1]
+
+
+def eriksson(end: TerminalPhasors, line: LineData,
+             z_local: tuple[complex, complex] | None = None,
+             z_remote: tuple[complex, complex] | None = None, *,
+             external: tuple[np.ndarray, np.ndarray] | None = None) -> LocatorEstimate:
     """Eriksson-type method: both source impedances give the fault current.
 
     Parameters
@@ -244,7 +273,12 @@ def eriksson(end: TerminalPhasors, line: LineData, z_local: tuple[complex, compl
         As for :func:`takagi`.
     z_local, z_remote : (complex, complex)
         Positive- and zero-sequence source impedances behind the from-end and
-        behind the to-end [ohm].
+        behind the to-end [ohm] (the published two-source system).
+    external : (ndarray, ndarray), optional
+        Instead of them, the impedance matrices ``(Z_ext1, Z_ext0)`` (2 x 2,
+        [ohm]) of the whole network outside the line seen at its two buses
+        (:func:`distribution_factors_network`): a parallel circuit or a mesh
+        between the ends then shares the fault current as it does.
 
     Returns
     -------
@@ -266,6 +300,9 @@ def eriksson(end: TerminalPhasors, line: LineData, z_local: tuple[complex, compl
     resulting from remote-end infeed", IEEE Trans. PAS-104(2), pp. 424-436,
     1985 (from memory).
     """
+    if external is None and (z_local is None or z_remote is None):
+        raise SignalError("eriksson: give the source impedances behind both ends, or the "
+                          "external network's two-port")
     loop = select_loop(end.fault_type)
     v = loop_voltage(end.v_fault, loop)
     d_i = loop_current(end.i_superimposed, loop)
@@ -275,7 +312,10 @@ def eriksson(end: TerminalPhasors, line: LineData, z_local: tuple[complex, compl
     i_zm = _mutual(end, line, loop)[0]
 
     def dist(d):
-        d1, d0 = distribution_factors(line, d, z_local, z_remote)
+        if external is not None:
+            d1, d0 = distribution_factors_network(line, d, external[0], external[1])
+        else:
+            d1, d0 = distribution_factors(line, d, z_local, z_remote)
         return superimposed_fault_factor(loop, d1, d0)
 
     def f(d):
@@ -298,4 +338,6 @@ def eriksson(end: TerminalPhasors, line: LineData, z_local: tuple[complex, compl
     r_loop = float(((v - loop_drop(line, d, end.i_fault, loop, i_zm)) * dist(d) / d_i).real)
     return _estimate("eriksson", end, line, d, loop,
                      fault_resistance_from_loop(end.fault_type, r_loop),
-                     ("two-source network with the model's source impedances",))
+                     ("the rest of the network as the model's two-port at the line's buses"
+                      if external is not None else
+                      "two-source network with the model's source impedances",))
