@@ -167,14 +167,29 @@ def to_fault(line: LineData, d_km: float, v_012: np.ndarray, i_012: np.ndarray,
     return v, i
 
 
+def _sides(local: TerminalPhasors, remote: TerminalPhasors, line: LineData):
+    """``d -> (V_f from local, V_f from remote, I arriving from local, from remote)``.
+
+    Sequence quantities (3,) at distance ``d`` [km] from the local end; the
+    ends' sequence phasors are taken once, for the many ``d`` a search tries.
+    """
+    w = local.omega
+    vl0, il0 = abc_to_012(local.v_fault), abc_to_012(local.i_fault)
+    vr0, ir0 = abc_to_012(remote.v_fault), abc_to_012(remote.i_fault)
+    far = LineData(line.line_id, tuple(reversed(line.sections)))  # structures not needed
+    length = line.length_km
+
+    def at(d: float):
+        vl, il = to_fault(line, d, vl0, il0, w)
+        vr, ir = to_fault(far, length - d, vr0, ir0, w)
+        return vl, vr, il, ir
+
+    return at
+
+
 def _both_sides(local: TerminalPhasors, remote: TerminalPhasors, line: LineData, d: float):
     """(V_f from local, V_f from remote, I arriving from local, from remote), sequence (3,)."""
-    w = local.omega
-    vl, il = to_fault(line, d, abc_to_012(local.v_fault), abc_to_012(local.i_fault), w)
-    far = LineData(line.line_id, tuple(reversed(line.sections)))  # structures not needed
-    vr, ir = to_fault(far, line.length_km - d, abc_to_012(remote.v_fault),
-                      abc_to_012(remote.i_fault), w)
-    return vl, vr, il, ir
+    return _sides(local, remote, line)(d)
 
 
 def _resistance(local: TerminalPhasors, remote_aligned: TerminalPhasors, line: LineData,
@@ -226,8 +241,10 @@ def two_ended_synchronised(local: TerminalPhasors, remote: TerminalPhasors, line
         raise SignalError("two-ended: the sum of the end currents is zero; no fault current")
     length = line.length_km
 
+    sides = _sides(local, rem, line)
+
     def mismatch(d):
-        vl, vr, _, _ = _both_sides(local, rem, line, d)
+        vl, vr, _, _ = sides(d)
         return abs(vl[1] - vr[1])
 
     grid = np.linspace(0.0, length, 41)
@@ -291,8 +308,10 @@ def two_ended_unsynchronised(local: TerminalPhasors, remote: TerminalPhasors,
     seq = _sequence_for(local.fault_type)
     length = line.length_km
 
+    sides = _sides(local, remote, line)
+
     def g(d):
-        vl, vr, _, _ = _both_sides(local, remote, line, d)
+        vl, vr, _, _ = sides(d)
         return abs(vl[seq]) ** 2 - abs(vr[seq]) ** 2
 
     i1_pre_l, i1_pre_r = abc_to_012(local.i_pre)[1], abc_to_012(remote.i_pre)[1]
