@@ -474,3 +474,28 @@ def test_missing_samples_are_filled_and_said(tmp_path):
     said = [w for w in a.warnings if "missing sample" in w]
     assert len(said) == 2 and any("IA: 3 missing" in w for w in said)
     json.dumps(a.to_dict(), allow_nan=False)
+
+
+def test_saturating_ct_current_left_out_of_the_fit():
+    # truth: vm_cr1_ct_saturation/truth.json (the simulator's fault: A-G, 5.784 km from
+    # VELLMOOR, 0.3 ohm), whose VELLMOOR CT saturates.  The flagged phase-A current is
+    # left out of the model fit; with both ends and with VELLMOOR alone the fit finds
+    # the fault, and the comparison reads the disagreement as the saturation it is
+    import json
+
+    from eventlab.network.model import load_model
+    from eventlab.records import read_record
+    folder = Path(__file__).parents[1] / "sample_events" / "vm_cr1_ct_saturation"
+    truth = json.loads((folder / "truth.json").read_text())
+    model = load_model(Path(__file__).parents[1] / "models" / "northmarch_230kv.toml")
+    records = [read_record(folder / "VELLMOOR.cfg"), read_record(folder / "CARDON_REACH.cfg")]
+    length = model.line("VM-CR1").length_km
+    for use, tol in ((records, 0.0005), (records[:1], 0.002)):
+        loc = analyze(use, model=model).location
+        assert loc.best.method == "model_fit"
+        assert abs(loc.distance_km - truth["distance_km"]) <= tol * length
+        assert loc.best.fault_resistance_ohm == pytest.approx(truth["r_fault_ohm"], abs=0.1)
+        fit = loc.fit
+        assert any("phase A at VELLMOOR-VM-CR1 left out" in a for a in fit.assumptions)
+    words = " ".join(loc.comparison.verdicts)
+    assert "IA" in words and "CT saturation suspected" in words

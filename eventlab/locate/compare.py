@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 import math
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 
 import numpy as np
@@ -73,7 +73,8 @@ def comparison_rows(terminal: str, measured: TerminalPhasors, v_abc: np.ndarray,
 
 
 def verdicts(rows: Sequence[ComparisonRow], fault_type: str, fit: ModelFitResult | None = None,
-             ratio_tolerance: float = 0.10, angle_tolerance_deg: float = 10.0) -> list[str]:
+             ratio_tolerance: float = 0.10, angle_tolerance_deg: float = 10.0, *,
+             suspect: Mapping[str, Sequence[bool]] | None = None) -> list[str]:
     """Plain-words reading of the disagreements (empty when everything agrees).
 
     Rules (common practice, no source): quantities smaller than 5 % of the
@@ -83,7 +84,10 @@ def verdicts(rows: Sequence[ComparisonRow], fault_type: str, fit: ModelFitResult
     error, or a wrong source strength in the model when the fit moved the
     source; faulted-phase currents smaller than computed and leading them
     suggest CT saturation; a residual current disagreeing while phase currents
-    agree suggests the line or source Z0, or mutual coupling.
+    agree suggests the line or source Z0, or mutual coupling.  ``suspect``
+    (terminal id -> per-phase flags, :attr:`TerminalPhasors.i_suspect`) names
+    the currents whose waveform already showed a saturating CT: when they are
+    the ones that disagree, that is the reading.
     """
     out: list[str] = []
     by_term: dict[str, list[ComparisonRow]] = {}
@@ -114,7 +118,16 @@ def verdicts(rows: Sequence[ComparisonRow], fault_type: str, fit: ModelFitResult
             common = np.ptp(ratios) < 0.05 and abs(np.mean(ratios) - 1) > ratio_tolerance
             sat = [r for r in cur_off if faulted.get(r.quantity[1], False)
                    and r.ratio < 1 - ratio_tolerance and r.angle_diff_deg > 0]
-            if common and not vol_off:
+            flagged = {f"I{p}" for p, b in zip("ABC", (suspect or {}).get(term, ()),
+                                                strict=False) if b}
+            if flagged and {r.quantity for r in cur_off} <= flagged:
+                names = ", ".join(f"{r.quantity} ({r.ratio:.2f}, {r.angle_diff_deg:+.1f} deg)"
+                                  for r in cur_off)
+                out.append(f"{term}: {names} off the model while the other currents and the "
+                           f"voltages agree, and the waveform departs from a sinusoid with "
+                           f"offset: CT saturation suspected (the fit left "
+                           f"{'it' if len(flagged) == 1 else 'them'} out)")
+            elif common and not vol_off:
                 out.append(f"{term}: every measured current is {np.mean(ratios):.2f} times the "
                            f"computed one while voltages agree: CT ratio or channel scaling "
                            f"error, or the source strength in the model, suspected")
@@ -172,6 +185,7 @@ def compare(fit: ModelFitResult, ends: Sequence[TerminalPhasors],
     rows: list[ComparisonRow] = []
     for t, e, (v, i) in zip(terminals, ends, comp, strict=True):
         rows += comparison_rows(t.id, e, v, i)
-    words = verdicts(rows, fit.fault_type, fit, ratio_tolerance, angle_tolerance_deg)
+    words = verdicts(rows, fit.fault_type, fit, ratio_tolerance, angle_tolerance_deg,
+                     suspect={t.id: e.i_suspect for t, e in zip(terminals, ends, strict=True)})
     return Comparison(tuple(rows), tuple(words), bolted_fault_currents(fit.model, fit.spec()),
                       ratio_tolerance, angle_tolerance_deg)

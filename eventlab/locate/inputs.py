@@ -17,6 +17,7 @@ import numpy as np
 
 from eventlab.errors import SignalError
 from eventlab.faulttypes import check_fault_type
+from eventlab.signals.timeline import saturating_phases
 
 
 def _phasor3(value, name: str) -> np.ndarray:
@@ -62,6 +63,11 @@ class TerminalPhasors:
     i_parallel_residual : complex, optional
         Residual current ``3 I0`` of a parallel circuit [A], for mutual
         coupling compensation.
+    i_suspect : tuple of 3 bool
+        Phases whose fault-window current is not to be trusted (a saturating
+        CT, :func:`eventlab.signals.timeline.saturating_phases`): the model fit
+        leaves them out; the impedance methods, which need every current of
+        their loop, still use them and say so.
     """
 
     terminal_id: str | None
@@ -78,10 +84,16 @@ class TerminalPhasors:
     samples_per_cycle: int | None = None
     i_parallel_residual: complex | None = None
     window_start_s: float | None = field(default=None, compare=False)
+    i_suspect: tuple[bool, bool, bool] = (False, False, False)
 
     def __post_init__(self) -> None:
         for name in ("v_pre", "i_pre", "v_fault", "i_fault"):
             object.__setattr__(self, name, _phasor3(getattr(self, name), name))
+        sus = tuple(bool(x) for x in self.i_suspect)
+        if len(sus) != 3:
+            raise SignalError(f"TerminalPhasors.i_suspect: expected 3 flags (A, B, C), got "
+                              f"{self.i_suspect!r}")
+        object.__setattr__(self, "i_suspect", sus)
         try:
             code = check_fault_type(self.fault_type)
         except ValueError as exc:
@@ -147,7 +159,12 @@ def from_fault_interval(interval, *, station: str, frequency_hz: float,
         (:func:`eventlab.signals.phasors.dft_phasors`), so this is the
         phasors' reference instant.
     samples_per_cycle : int, optional
+
+    The interval's ``i_distortion`` (what the fit left of each current over the
+    steady part of the fault) marks the phases of a saturating CT in
+    ``i_suspect``.
     """
+    distortion = getattr(interval, "i_distortion", None)
     return TerminalPhasors(
         terminal_id=terminal_id, station=station,
         v_pre=interval.v_prefault, i_pre=interval.i_prefault,
@@ -156,4 +173,6 @@ def from_fault_interval(interval, *, station: str, frequency_hz: float,
         inception_s=float(interval.start_s), phasor_time_s=float(time0_s),
         record_start=record_start, samples_per_cycle=samples_per_cycle,
         i_parallel_residual=i_parallel_residual,
-        window_start_s=float(interval.fault.start_s))
+        window_start_s=float(interval.fault.start_s),
+        i_suspect=tuple(bool(x) for x in saturating_phases(interval.i_fault, distortion))
+        if distortion is not None else (False, False, False))

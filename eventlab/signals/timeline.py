@@ -902,8 +902,10 @@ def _onset_time(t, k: int) -> float:
 
 #: fit residual of a current carrying at least half the largest fault current
 #: (RMS over the window / its fundamental RMS) above which its CT is taken to
-#: saturate: healthy simulated records stay under 1.6 %, the saturating CT sample
-#: leaves 7.8 % over the steady part of the fault (common practice, no source)
+#: saturate: behind the fit's low-pass (phasors.fit_prefilter) healthy simulated
+#: records stay under 0.4 % (sample events, the location benchmark's quick grid),
+#: the saturating CT sample leaves 8.1 % over the steady part of the fault
+#: (measured; the limit itself common practice, no source)
 CT_DISTORTION_LIMIT = 0.04
 
 
