@@ -8,6 +8,7 @@ import numpy as np
 import pytest
 from locate_models import two_source_model
 
+from eventlab.errors import SignalError
 from eventlab.faulttypes import FAULT_TYPES
 from eventlab.locate.model_link import line_from, phasors_from_solution
 from eventlab.locate.two_ended import (
@@ -72,3 +73,22 @@ def test_sync_offset_reported_in_samples_and_large_offset_rejected():
     assert chk.offset_samples == pytest.approx(3.0, abs=1e-3)  # datetime keeps microseconds
     assert not chk.synchronised and "not aligned" in chk.reason
     assert sync_check(a, replace(b, record_start=None)).synchronised is False
+
+
+@pytest.mark.parametrize("vt_error", [0.99, 0.995, 0.998])
+def test_unsynchronised_nearly_bolted_three_phase_sides_touch(vt_error):
+    # a 1-ohm A-B-C fault: both sides' fault-point voltages nearly vanish there, and a
+    # VT ratio error of under 1 % at the remote end leaves the two magnitude curves
+    # touching without crossing; the answer is their closest approach (reference: the
+    # fault solver's phasors; common practice, no source)
+    from dataclasses import replace
+    model = two_source_model(load_angle_deg=-10.0)
+    a, b, line = _ends(model, 0.3, "ABC", 1.0)
+    b_err = replace(b, v_fault=b.v_fault * vt_error, v_pre=b.v_pre * vt_error)
+    u = two_ended_unsynchronised(a, b_err.rotated(0.4), line)
+    assert u.distance_km == pytest.approx(30.0, abs=0.005 * 100)
+    assert any("touch" in n for n in u.notes)
+    # a remote record that is not the other end at all still raises
+    far = replace(b_err, v_fault=b_err.v_fault * 3.0)
+    with pytest.raises(SignalError, match="no distance"):
+        two_ended_unsynchronised(a, far.rotated(0.4), line)
