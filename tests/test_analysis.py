@@ -303,6 +303,15 @@ def test_quickstart_location_against_truth():
     for c in doc["comparison"]:
         assert set(c) >= {"terminal", "quantity", "measured", "computed", "ratio",
                           "angle_diff_deg"}
+    # bolted-fault currents at the located point, model as written and IEC 60909
+    # (c_max above c_min by their ratio 1.1, IEC 60909-0 table 1, from memory)
+    bolted = loc["bolted_fault_currents"]
+    iec = bolted["iec60909"]
+    ph = "ABC".index(truth["type"][0])
+    assert iec["c_max"]["c"] == 1.1 and iec["c_min"]["c"] == 1.0
+    assert iec["c_max"]["fault_a"][ph] == pytest.approx(1.1 * iec["c_min"]["fault_a"][ph],
+                                                         rel=1e-9)
+    assert set(iec["c_max"]["terminals_a"]) == terms
 
 
 def test_explicit_terminal_and_remote_without_model_terminal():

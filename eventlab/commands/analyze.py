@@ -192,6 +192,15 @@ def _location_text(doc: dict) -> list[str]:
                        f"{c['ratio']:6.3f} {c['angle_diff_deg']:+7.2f}d")
     for v in loc.get("verdict", []):
         out.append(f"  Verdict: {v}")
+    bolted = loc.get("bolted_fault_currents") or {}
+    if bolted.get("fault_a"):
+        out.append(f"  Bolted {bolted['fault_type']} fault at this point, fault current per "
+                   f"phase [A]:")
+        rows = [("model as written", bolted)]
+        for key, val in (bolted.get("iec60909") or {}).items():
+            rows.append((f"IEC 60909 {key.replace('_', ' ')} = {val['c']:g}", val))
+        for label, val in rows:
+            out.append(f"    {label:<24} " + "  ".join(f"{x:9.0f}" for x in val["fault_a"]))
     for n in loc.get("notes", []):
         out.append(f"  note: {n}")
     out.append(f"  CAUTION: {loc['caution']}")

@@ -8,7 +8,12 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from eventlab.network.faults import FaultSpec, solve_fault
+from eventlab.network.faults import (
+    FaultSpec,
+    iec60909_fault,
+    iec60909_voltage_factor,
+    solve_fault,
+)
 from eventlab.network.model import NetworkModel, Terminal
 from eventlab.symmetrical import abc_to_012
 from eventlab.units import polar_deg, wrap_deg
@@ -161,15 +166,28 @@ def verdicts(rows: Sequence[ComparisonRow], fault_type: str, fit: ModelFitResult
 def bolted_fault_currents(model: NetworkModel, spec: FaultSpec) -> dict:
     """Currents the model as written gives for a bolted fault at the located point.
 
-    Returns ``{"fault": [|I_a|, |I_b|, |I_c|], "terminals": {id: [...]}}`` [A],
-    as a protection study would have them (model EMFs, no calibration).
+    Returns ``fault_a`` ``[|I_a|, |I_b|, |I_c|]`` and ``terminals_a``
+    ``{id: [...]}`` [A] with the model's EMFs as written (no calibration), and
+    under ``iec60909`` the same by the IEC 60909 method for ``c_max`` and
+    ``c_min`` (:func:`eventlab.network.faults.iec60909_fault`: equivalent
+    voltage source, no load, no line capacitance), as a protection study
+    has them.
     """
     bolted = FaultSpec(spec.line, spec.fraction, spec.type, 0.0, 0.0)
     res = solve_fault(model, bolted)
-    return {"fault_type": spec.type, "fraction_from_from_bus": spec.fraction,
-            "fault_a": [float(abs(x)) for x in res.fault.i_abc],
-            "terminals_a": {tid: [float(abs(x)) for x in st.i_abc]
-                            for tid, st in res.terminals.items()}}
+
+    def currents(r):
+        return {"fault_a": [float(abs(x)) for x in r.fault.i_abc],
+                "terminals_a": {tid: [float(abs(x)) for x in st.i_abc]
+                                for tid, st in r.terminals.items()}}
+
+    out = {"fault_type": spec.type, "fraction_from_from_bus": spec.fraction, **currents(res)}
+    kv = model.bus(model.line(spec.line).from_bus).kv
+    out["iec60909"] = {
+        f"c_{case}": {"c": iec60909_voltage_factor(case, kv),
+                      **currents(iec60909_fault(model, bolted, case))}
+        for case in ("max", "min")}
+    return out
 
 
 def compare(fit: ModelFitResult, ends: Sequence[TerminalPhasors],
