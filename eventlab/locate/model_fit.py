@@ -101,7 +101,10 @@ class FitOptions:
     coverage_factor : float
         ``k`` of the interval ``m +/- k sigma``.
     r_max_ohm : float
-        Upper bound of ``R_f`` and ``R_g`` [ohm].
+        Upper bound of ``R_f`` and ``R_g`` [ohm] (1000: a tree contact or a
+        fault through dry ground reaches several hundred ohm; at 300 a
+        simulated 450-ohm A-G fault at 20 % of the 230 kV line read 26 % of
+        the line off with the fit on its bound, at 1000 0.06 %).
     """
 
     fit_local_source: bool = True
@@ -114,7 +117,7 @@ class FitOptions:
     z0_tolerance: float = 0.05
     z1_tolerance: float = 0.02
     coverage_factor: float = 2.0
-    r_max_ohm: float = 300.0
+    r_max_ohm: float = 1000.0
 
     def __post_init__(self) -> None:
         if self.ct_class not in CT_CLASSES:

@@ -142,3 +142,20 @@ def test_sequential_clearing_window_stops_before_the_remote_end_opens(code, rf):
     for use in (records[:1], records):
         loc = analyze(use, model=model).location
         assert abs(loc.distance_km - 0.4 * length) <= 0.001 * length, len(use)
+
+
+def test_high_resistance_ground_fault_located_with_its_resistance():
+    # truth: the simulator's 450-ohm A-G fault at 20 % of VM-CR1 (a tree contact);
+    # the fit must be free to reach it (FitOptions.r_max_ohm)
+    model = load_model(ROOT / "models" / "northmarch_230kv.toml")
+    spec = SimulationSpec(line="VM-CR1", fraction=0.2, type="AG", r_fault_ohm=450.0,
+                          inception_s=0.1, relay_time_s=0.03, clear_after_s=0.08,
+                          duration_s=0.3, samples_per_cycle=64, noise=0.001, seed=3,
+                          anti_alias_hz=0.3 * 64 * 60.0)
+    sim = simulate(model, spec)
+    records = [sim.records[t.id] for t in model.terminals_of_line("VM-CR1")]
+    one = locate_event(model, _ends(records)[:1])
+    length = model.line("VM-CR1").length_km
+    assert abs(one.distance_km - 0.2 * length) <= 0.002 * length
+    assert one.best.fault_resistance_ohm == pytest.approx(450.0, rel=0.02)
+    assert one.interval_km[0] <= 0.2 * length <= one.interval_km[1]
