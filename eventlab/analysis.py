@@ -779,6 +779,35 @@ def analyze(records: Sequence[Record] | Record, model=None, line: str | None = N
                     warnings=tuple(warnings), location=location, comparison=comparison)
 
 
+#: two ends' inceptions further apart than this [cycles] in absolute time, with
+#: different fault types, mean that the later end missed the inception
+MISSED_INCEPTION_CYCLES = 2.0
+
+
+def _missed_inception(ends) -> int | None:
+    """Index of the end whose first fault interval began after the fault did, or None.
+
+    Only when the two ends disagree on the fault type: then the end whose
+    inception is later by more than :data:`MISSED_INCEPTION_CYCLES` in
+    absolute time (both records carry start times) saw only what followed,
+    typically the other end's opening.
+    """
+    a, b = ends
+    if a.fault_type == b.fault_type:
+        return None
+    ta = a.absolute_time(a.inception_s)
+    tb = b.absolute_time(b.inception_s)
+    if ta is None or tb is None:
+        return None
+    dt = (tb - ta).total_seconds()
+    limit = MISSED_INCEPTION_CYCLES / a.frequency_hz
+    if dt > limit:
+        return 1
+    if dt < -limit:
+        return 0
+    return None
+
+
 def _locate(records: Sequence[Record], terms: Sequence[TerminalAnalysis], model,
             line: str | None, model_terms: Mapping[int, Any], spc: Mapping[int, int],
             opts: AnalysisOptions, warnings: list[str]):
@@ -808,6 +837,24 @@ def _locate(records: Sequence[Record], terms: Sequence[TerminalAnalysis], model,
     if len(ends) > 2:
         warnings.append(f"location: {len(ends)} faulted records; the first two are used")
         ends = ends[:2]
+    if len(ends) == 2:
+        late = _missed_inception(ends)
+        if late == 1:
+            warnings.append(
+                f"location: {ends[1].station} shows the fault only from "
+                f"{ends[1].inception_s:.4f} s, with type {ends[1].fault_type} against "
+                f"{ends[0].fault_type} at {ends[0].station}: it missed the inception (a "
+                f"high-resistance fault seen weakly at that end?) and its phasors are not of "
+                f"the fault's first stage; located from {ends[0].station} alone")
+            ends = ends[:1]
+        elif late == 0:
+            warnings.append(
+                f"location: {ends[0].station} shows the fault only from "
+                f"{ends[0].inception_s:.4f} s, with type {ends[0].fault_type} against "
+                f"{ends[1].fault_type} at {ends[1].station}: it missed the inception (a "
+                f"high-resistance fault seen weakly at that end?), so this location, taken "
+                f"from it, is not reliable; give {ends[1].station}'s record first to locate "
+                f"from it")
     try:
         return locate_event(model, ends, line=line, options=opts.locate)
     except (ModelError, SignalError) as exc:

@@ -159,3 +159,33 @@ def test_high_resistance_ground_fault_located_with_its_resistance():
     assert abs(one.distance_km - 0.2 * length) <= 0.002 * length
     assert one.best.fault_resistance_ohm == pytest.approx(450.0, rel=0.02)
     assert one.interval_km[0] <= 0.2 * length <= one.interval_km[1]
+
+
+@pytest.mark.parametrize("rf, both_see_it", [(450.0, True), (800.0, False)])
+def test_weakly_seen_high_resistance_fault(rf, both_see_it):
+    # truth: the simulator's A-G fault at 20 % of VM-CR1.  At 450 ohm the far end
+    # (CARDON REACH) sees I0 and I2 change by about 7 % of its load current, enough
+    # for the change criterion (timeline.DELTA_UNBAL_RATIO); at 800 ohm it sees the
+    # fault only once VELLMOOR opens, so the analysis locates from VELLMOOR alone and
+    # says why; given first, that record is flagged as not to be relied on
+    from eventlab.analysis import analyze
+    model = load_model(ROOT / "models" / "northmarch_230kv.toml")
+    spec = SimulationSpec(line="VM-CR1", fraction=0.2, type="AG", r_fault_ohm=rf,
+                          inception_s=0.1, relay_time_s=0.03, clear_after_s=0.08,
+                          duration_s=0.3, samples_per_cycle=64, noise=0.001, seed=3,
+                          anti_alias_hz=0.3 * 64 * 60.0)
+    sim = simulate(model, spec)
+    records = [sim.records[t.id] for t in model.terminals_of_line("VM-CR1")]
+    length = model.line("VM-CR1").length_km
+    a = analyze(records, model=model)
+    types = [t.timeline.fault_type for t in a.terminals]
+    missed = [w for w in a.warnings if "missed the inception" in w]
+    assert abs(a.location.distance_km - 0.2 * length) <= 0.005 * length
+    if both_see_it:
+        assert types == ["AG", "AG"] and not missed
+        assert len(a.location.fit.used_terminals) == 2
+    else:
+        assert types[0] == "AG" and types[1] != "AG"
+        assert missed and "located from VELLMOOR alone" in missed[0]
+        back = analyze(records[::-1], model=model)
+        assert any("not reliable" in w for w in back.warnings)
