@@ -848,13 +848,20 @@ def _locate(records: Sequence[Record], terms: Sequence[TerminalAnalysis], model,
                 f"the fault's first stage; located from {ends[0].station} alone")
             ends = ends[:1]
         elif late == 0:
+            first_t = model_terms.get(0)
             warnings.append(
                 f"location: {ends[0].station} shows the fault only from "
                 f"{ends[0].inception_s:.4f} s, with type {ends[0].fault_type} against "
                 f"{ends[1].fault_type} at {ends[1].station}: it missed the inception (a "
-                f"high-resistance fault seen weakly at that end?), so this location, taken "
-                f"from it, is not reliable; give {ends[1].station}'s record first to locate "
-                f"from it")
+                f"high-resistance fault seen weakly at that end?) and its phasors are not of "
+                f"the fault's first stage; located from {ends[1].station} alone"
+                + ("" if first_t is None else f", distances given from {first_t.id}"))
+            try:
+                rep = locate_event(model, ends[1:], line=line, options=opts.locate)
+                return rep if first_t is None else rep.seen_from(model, first_t.id)
+            except (ModelError, SignalError) as exc:
+                warnings.append(f"location: not made ({exc})")
+                return None
     try:
         return locate_event(model, ends, line=line, options=opts.locate)
     except (ModelError, SignalError) as exc:

@@ -101,6 +101,46 @@ class LocationReport:
     def distance_km(self) -> float:
         return self.best.distance_km
 
+    def seen_from(self, model: NetworkModel, terminal_id: str) -> LocationReport:
+        """The same location with every distance from the line's terminal ``terminal_id``.
+
+        For a two-terminal line the other end's distance along the route is
+        ``L - d``; intervals are mirrored and the structures re-read from that
+        end.  The report itself when it is already from there.
+        """
+        if terminal_id == self.reference_terminal:
+            return self
+        t = model.terminal(terminal_id)
+        if t.line != self.line_id:
+            raise ModelError(f"{model.source_name}: terminal {terminal_id!r} is not on line "
+                             f"{self.line_id}")
+        length = self.length_km
+
+        def flip(lo_hi):
+            lo, hi = lo_hi
+            return (length - float(hi), length - float(lo))
+
+        def est(m: LocatorEstimate) -> LocatorEstimate:
+            extra = dict(m.extra)
+            if "interval_km" in extra:
+                extra["interval_km"] = list(flip(extra["interval_km"]))
+            return replace(m, distance_km=length - m.distance_km, terminal=terminal_id,
+                           extra=extra)
+
+        interval = flip(self.interval_km)
+        fit = self.fit
+        if fit is not None:
+            fit = replace(fit, distance_km=length - fit.distance_km, terminal=terminal_id,
+                          interval_km=flip(fit.interval_km))
+        best = est(self.best)
+        structures = locate_structures(line_from(model, self.line_id, t), best.distance_km,
+                                       interval)
+        return replace(self, reference_terminal=terminal_id, best=best, interval_km=interval,
+                       methods=tuple(est(m) for m in self.methods), fit=fit,
+                       structures=structures,
+                       notes=self.notes + (f"distances given from {terminal_id} (located from "
+                                           f"{self.reference_terminal})",))
+
     def to_dict(self) -> dict:
         b = self.best
         loc = {

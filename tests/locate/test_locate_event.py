@@ -161,3 +161,33 @@ def test_station_names_paired_by_their_words_and_the_line_s_other_end():
     # one unknown record alone cannot be placed
     with pytest.raises(ModelError, match="FIELD DFR 7"):
         pair_ends(model, [far])
+
+
+def test_report_seen_from_the_other_terminal():
+    # the same physical point from the other end: L - d, the interval mirrored, the
+    # same nearest structure (route distances of the model's structure list)
+    from pathlib import Path
+
+    from eventlab.analysis import analyze
+    from eventlab.network.model import load_model
+    from eventlab.records import read_record
+    root = Path(__file__).resolve().parents[2]
+    folder = root / "sample_events" / "cr_pf1_bg"
+    model = load_model(root / "models" / "northmarch_132kv.toml")
+    recs = [read_record(p) for p in sorted(folder.glob("*.cfg"))]
+    rep = analyze(recs[:1], model=model).location
+    other = next(t.id for t in model.terminals_of_line(rep.line_id)
+                 if t.id != rep.reference_terminal)
+    seen = rep.seen_from(model, other)
+    L = rep.length_km
+    assert seen.reference_terminal == other
+    assert seen.distance_km == pytest.approx(L - rep.distance_km, abs=1e-9)
+    assert seen.interval_km == pytest.approx((L - rep.interval_km[1], L - rep.interval_km[0]))
+    assert seen.structures.nearest == rep.structures.nearest
+    assert seen.fit.distance_km == pytest.approx(L - rep.fit.distance_km)
+    assert all(m.terminal == other for m in seen.methods)
+    # the fitted fault is the same physical fault
+    assert seen.fit.spec().fraction == pytest.approx(rep.fit.spec().fraction, abs=1e-12)
+    truth = json.loads((folder / "truth.json").read_text())
+    assert abs(seen.distance_km - truth["distance_from_km"][other]) <= 0.005 * L
+    assert rep.seen_from(model, rep.reference_terminal) is rep

@@ -167,7 +167,7 @@ def test_weakly_seen_high_resistance_fault(rf, both_see_it):
     # (CARDON REACH) sees I0 and I2 change by about 7 % of its load current, enough
     # for the change criterion (timeline.DELTA_UNBAL_RATIO); at 800 ohm it sees the
     # fault only once VELLMOOR opens, so the analysis locates from VELLMOOR alone and
-    # says why; given first, that record is flagged as not to be relied on
+    # says why, with the distances still from the first record's terminal
     from eventlab.analysis import analyze
     model = load_model(ROOT / "models" / "northmarch_230kv.toml")
     spec = SimulationSpec(line="VM-CR1", fraction=0.2, type="AG", r_fault_ohm=rf,
@@ -188,4 +188,6 @@ def test_weakly_seen_high_resistance_fault(rf, both_see_it):
         assert types[0] == "AG" and types[1] != "AG"
         assert missed and "located from VELLMOOR alone" in missed[0]
         back = analyze(records[::-1], model=model)
-        assert any("not reliable" in w for w in back.warnings)
+        assert any("located from VELLMOOR alone" in w for w in back.warnings)
+        assert back.location.reference_terminal == "CARDON_REACH-VM-CR1"
+        assert abs(back.location.distance_km - 0.8 * length) <= 0.005 * length
