@@ -502,8 +502,9 @@ def _terminal(record: Record, k_rec: int, term: TerminalChannels, n: int, fs: fl
                 # the same window and offset removal as the phase quantities
                 length = iv.fault.end_index - iv.fault.start_index + 1
                 tau = opts.tau_s if ch is not term.neutral_voltage else None
-                flt[name] = complex(fault_window_current(x, kf, n, fs, tau,
-                                                         max(length, n)).phasor)
+                flt[name] = complex(fault_window_current(
+                    x, kf, n, fs, tau, max(length, n),
+                    cycle_samples=None if f_used is None else fs / f_used).phasor)
             else:
                 flt[name] = complex(window_phasor(x, kf, n))
         rv = moving_rms(np.vstack([v, i]), n)

@@ -380,14 +380,17 @@ FIT_LOWPASS_HARMONIC = 6.0
 FIT_LOWPASS_ORDER = 4
 
 
-def fit_prefilter(samples, end_index: int, samples_per_cycle: int):
+def fit_prefilter(samples, end_index: int, samples_per_cycle: int,
+                  cycle_samples: float | None = None):
     """The samples up to ``end_index`` through the fit's low-pass, and its gain.
 
     Returns ``(filtered, gain)``: ``filtered`` shape ``(..., end_index + 1)``
     (nothing after the window enters: the filter is causal) and ``gain`` the
-    complex response at the nominal frequency, by which a phasor fitted to the
-    filtered samples is divided.  The filter starts in the steady state of the
-    first sample.
+    complex response at the power-system frequency (nominal, or the one whose
+    cycle is ``cycle_samples`` samples long when the frequency is tracked), by
+    which a phasor fitted to the filtered samples is divided: its phase falls
+    by about 0.4 deg per Hz near the fundamental.  The filter starts in the
+    steady state of the first sample.
     """
     x = np.asarray(samples, dtype=float)[..., :int(end_index) + 1]
     n = int(samples_per_cycle)
@@ -395,7 +398,7 @@ def fit_prefilter(samples, end_index: int, samples_per_cycle: int):
     b, a = butter(FIT_LOWPASS_ORDER, wn)
     zi = lfilter_zi(b, a) * x[..., :1]
     y, _ = lfilter(b, a, x, axis=-1, zi=zi)
-    z = np.exp(-2j * np.pi / n)
+    z = np.exp(-2j * np.pi / (n if cycle_samples is None else float(cycle_samples)))
     gain = complex(np.polyval(b[::-1], z) / np.polyval(a[::-1], z))
     return y, gain
 
@@ -561,7 +564,8 @@ def window_phasor_fitted_decay(samples, end_index: int, samples_per_cycle: int,
 
 def fault_window_current(samples, end_index: int, samples_per_cycle: int,
                          sample_rate_hz: float, tau_s: float | None = None,
-                         length: int | None = None) -> WindowFit:
+                         length: int | None = None, *,
+                         cycle_samples: float | None = None) -> WindowFit:
     """Fault-window phasor(s) with the decaying offset removed, as the timeline uses.
 
     Fundamental plus a decaying exponential fitted by least squares over the
@@ -570,7 +574,7 @@ def fault_window_current(samples, end_index: int, samples_per_cycle: int,
     :func:`window_phasor_decay_ls`); else each channel its own
     (:func:`window_phasor_fitted_decay`).  The samples go through the causal
     low-pass of :func:`fit_prefilter` first and the phasor is divided by its
-    gain at the nominal frequency.
+    gain at the nominal frequency (or at the tracked one, ``cycle_samples``).
 
     Returns
     -------
@@ -584,7 +588,7 @@ def fault_window_current(samples, end_index: int, samples_per_cycle: int,
     tau_n = None if tau_s is None else float(tau_s) * fs
     if tau_n is not None and not (np.isfinite(tau_n) and tau_n > 0):
         raise SignalError(f"tau_s={tau_s!r}: expected a positive time constant")
-    x, gain = fit_prefilter(x, end_index, samples_per_cycle)
+    x, gain = fit_prefilter(x, end_index, samples_per_cycle, cycle_samples)
     ph, taus, offs, res = window_fit(x, end_index, samples_per_cycle, tau_n, length)
     ph = ph / gain
     shape = x.shape[:-1]

@@ -680,7 +680,8 @@ def build_timeline(time_s, v_abc, i_abc, samples_per_cycle: int, *,
                 and intervals:
             kind = "reclose"
         stages = _stages(t, v, i, v_ph, i_ph, n, fs, k_on, b, poles, kind, mitigate_offset,
-                         tau_s, d_v, d_i, peak, flags, floors, onset_s)
+                         tau_s, d_v, d_i, peak, flags, floors, onset_s,
+                         cycle_samples=cycle_samples)
         intervals.extend(stages)
         last = stages[-1]
         prev_end = (last.end_index if last.end_index is not None else b) + n // 2
@@ -731,7 +732,7 @@ def _first_trip(edges, after_s):
 
 
 def _classify_at(t, v, i, v_ph, i_ph, n, fs, k_pre_win, win: Window, tau_s, mitigate,
-                 floors=(0.0, 0.0, 0.0)):
+                 floors=(0.0, 0.0, 0.0), cycle_samples=None):
     i_pre = i_ph[:, k_pre_win.end_index] if k_pre_win is not None else np.zeros(3, complex)
     v_pre = v_ph[:, k_pre_win.end_index] if k_pre_win is not None else None
     k = win.end_index
@@ -740,7 +741,7 @@ def _classify_at(t, v, i, v_ph, i_ph, n, fs, k_pre_win, win: Window, tau_s, miti
         # least squares with the decaying term (the mimic filter's first difference
         # would amplify the line's capacitive ringing at high sample rates); without a
         # given time constant each phase gets its own, fitted
-        wf = fault_window_current(i, k, n, fs, tau_s)
+        wf = fault_window_current(i, k, n, fs, tau_s, cycle_samples=cycle_samples)
         i_f, tau_used = wf.phasor, wf.tau_s
     else:
         i_f = i_ph[:, k]
@@ -756,9 +757,11 @@ def _classify_at(t, v, i, v_ph, i_ph, n, fs, k_pre_win, win: Window, tau_s, miti
 
 def _stages(t, v, i, v_ph, i_ph, n, fs, k_on, run_end, poles, kind, mitigate, tau_given,
             d_v, d_i, peak, flags, floors=(0.0, 0.0, 0.0),
-            onset_s: float | None = None) -> list[FaultInterval]:
+            onset_s: float | None = None, *,
+            cycle_samples: float | None = None) -> list[FaultInterval]:
     """The interval(s) of one disturbance: the fault and, if it evolves, its later stages."""
     n_t = t.size
+    cs = cycle_samples
     pre = prefault_window(t, k_on, n)
     if pre is not None and pre.flagged:
         flags.append(pre.note)
@@ -773,7 +776,7 @@ def _stages(t, v, i, v_ph, i_ph, n, fs, k_on, run_end, poles, kind, mitigate, ta
     stop = first_open if first_open is not None else min(run_end, n_t)
     win = fault_window(t, k_on, stop, n)
     c, i_pre, v_pre, i_f, v_f, tau = _classify_at(t, v, i, v_ph, i_ph, n, fs, pre, win,
-                                                  tau_given, mitigate, floors)
+                                                  tau_given, mitigate, floors, cs)
     if win.flagged:
         flags.append(f"fault at {t[k_on]:.4f} s: {win.note}")
     # evolving fault: classify each half cycle after the fault window, before the opening
@@ -803,14 +806,14 @@ def _stages(t, v, i, v_ph, i_ph, n, fs, k_on, run_end, poles, kind, mitigate, ta
                     # the first stage's window reached into the next stage: redo it
                     w1 = fault_window(t, k_on, k_ev, n)
                     c1, _, _, i1, v1, tau1 = _classify_at(t, v, i, v_ph, i_ph, n, fs, pre,
-                                                          w1, tau_given, mitigate, floors)
+                                                          w1, tau_given, mitigate, floors, cs)
                     if c1.type != NO_FAULT:
                         bounds[0] = (k_on, c1, w1, i1, v1)
                         cur = c1.type
                         tau = tau1
                 w2 = fault_window(t, k_ev, stop, n, settle_cycles=0.5)
                 c2, _, _, i2, v2, _ = _classify_at(t, v, i, v_ph, i_ph, n, fs, pre, w2, None,
-                                                   False, floors)
+                                                   False, floors, cs)
                 if c2.type == NO_FAULT or c2.type == cur:
                     c2 = ck
                 bounds.append((k_ev, c2, w2, i2, v2))
@@ -858,9 +861,10 @@ def _stages(t, v, i, v_ph, i_ph, n, fs, k_on, run_end, poles, kind, mitigate, ta
             # offset term too: behind a source of another X/R they carry one
             full = steady_window(t, ww, bounds[j + 1][0] if j + 1 < len(bounds) else stop, n)
             if full.end_index >= n - 1:
-                length, wi, k_dep = _steady_length(i, full, n, fs, tau_given)
+                length, wi, k_dep = _steady_length(i, full, n, fs, tau_given, cs)
                 sw = steady_window(t, ww, full.start_index + length + 1, n)
-                wv = fault_window_current(v, sw.end_index, n, fs, None, length)
+                wv = fault_window_current(v, sw.end_index, n, fs, None, length,
+                                          cycle_samples=cs)
                 ii, vv, ww = wi.phasor, wv.phasor, sw
                 if not sw.flagged:  # a flagged window may reach into the pole opening
                     i_res, v_res = _ro_real(wi.residual), _ro_real(wv.residual)
@@ -871,8 +875,10 @@ def _stages(t, v, i, v_ph, i_ph, n, fs, k_on, run_end, poles, kind, mitigate, ta
                         # if they stayed steady, the current measurement did (a CT
                         # driven into saturation by the offset)
                         lf = full.end_index - full.start_index + 1
-                        wi_f = fault_window_current(i, full.end_index, n, fs, tau_given, lf)
-                        wv_f = fault_window_current(v, full.end_index, n, fs, None, lf)
+                        wi_f = fault_window_current(i, full.end_index, n, fs, tau_given, lf,
+                                                    cycle_samples=cs)
+                        wv_f = fault_window_current(v, full.end_index, n, fs, None, lf,
+                                                    cycle_samples=cs)
                         vm = np.abs(wv.phasor)
                         big_v = vm >= 0.5 * vm.max() if vm.max() > 0 else vm > 0
                         changed = bool(np.any(big_v & (wv_f.residual > RESIDUAL_GROWTH_V
@@ -981,7 +987,8 @@ def departure(x, start: int, stop: int, n: int, tau_samples=None) -> int | None:
     return int(start + j_start)
 
 
-def _steady_length(i, sw: Window, n: int, fs: float, tau_s: float | None):
+def _steady_length(i, sw: Window, n: int, fs: float, tau_s: float | None,
+                   cycle_samples: float | None = None):
     """Longest window from ``sw``'s start over which the currents stay one steady state.
 
     The window ends an eighth of a cycle before the currents depart from the
@@ -992,7 +999,8 @@ def _steady_length(i, sw: Window, n: int, fs: float, tau_s: float | None):
     longest = max(sw.end_index - start + 1, n)
     k_dep = departure(i, start, start + longest, n, None if tau_s is None else tau_s * fs)
     length = longest if k_dep is None else max(min(k_dep - n // 8 - start, longest), n)
-    return length, fault_window_current(i, start + length - 1, n, fs, tau_s, length), k_dep
+    return length, fault_window_current(i, start + length - 1, n, fs, tau_s, length,
+                                        cycle_samples=cycle_samples), k_dep
 
 
 def _ro_real(x) -> np.ndarray:

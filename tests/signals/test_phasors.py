@@ -226,3 +226,25 @@ def test_fault_window_fit_rejects_line_ringing(n):
     clean = fault_window_current(1000.0 * np.cos(2 * np.pi * f0 * t + 0.7), end, n, fs,
                                  None, 3 * n).phasor
     assert abs(clean / want - 1) < 1e-6
+
+
+@pytest.mark.parametrize("n", [16, 64])
+def test_fit_prefilter_gain_at_the_tracked_frequency(n):
+    # the low-pass's response at the actual frequency (an island running at 57 Hz):
+    # reference: a least-squares sinusoid at that frequency (numpy.linalg.lstsq) fitted
+    # to the filtered samples once the filter has settled, against the input's
+    from eventlab.signals.phasors import fit_prefilter
+    f0, f = 60.0, 57.0
+    fs = n * f0
+    k = np.arange(20 * n)
+    x = 100.0 * np.cos(2 * np.pi * f * k / fs + 0.3)
+    cyc = fs / f
+    y, g_true = fit_prefilter(x, k[-1], n, cycle_samples=cyc)
+    _, g_nom = fit_prefilter(x, k[-1], n)
+    tail = k >= 10 * n
+    basis = np.column_stack([np.cos(2 * np.pi * f * k[tail] / fs),
+                             -np.sin(2 * np.pi * f * k[tail] / fs)])
+    a, b = np.linalg.lstsq(basis, y[tail], rcond=None)[0]
+    h = complex(a, b) / (100.0 * np.exp(0.3j))     # the filter's actual response
+    assert abs(h / g_true - 1) < 1e-6
+    assert abs(np.degrees(np.angle(h / g_nom))) > 0.5   # the nominal one is off
