@@ -21,6 +21,7 @@ from .model_link import (
     external_two_port,
     line_from,
     pair_ends,
+    sampled_distribution,
 )
 from .single_ended import eriksson, modified_takagi, reactance, takagi
 from .structures import StructureSpan, locate_structures
@@ -257,11 +258,16 @@ def locate_event(model: NetworkModel, ends: Sequence[TerminalPhasors], line: str
     if mt is not None:
         methods.append(mt)
     try:
-        ext = external_two_port(model, line_id, ref_t.bus)
+        if ld.z0m_ohm_per_km != 0 and code.endswith("G"):
+            # a coupled parallel circuit shares the zero-sequence current in a way a
+            # two-port cannot hold: the model's own distribution along the line
+            kw = {"distribution": sampled_distribution(model, line_id, ref_t)}
+        else:
+            kw = {"external": external_two_port(model, line_id, ref_t.bus)}
     except ModelError as exc:
         notes.append(f"eriksson: not run ({exc})")
     else:
-        est = _try(notes, "eriksson", eriksson, ref_end, ld, external=ext)
+        est = _try(notes, "eriksson", eriksson, ref_end, ld, **kw)
         if est is not None:
             methods.append(est)
 

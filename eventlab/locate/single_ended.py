@@ -264,7 +264,9 @@ def distribution_factors_network(line: LineData, d_km: float, z_ext1: np.ndarray
 def eriksson(end: TerminalPhasors, line: LineData,
              z_local: tuple[complex, complex] | None = None,
              z_remote: tuple[complex, complex] | None = None, *,
-             external: tuple[np.ndarray, np.ndarray] | None = None) -> LocatorEstimate:
+             external: tuple[np.ndarray, np.ndarray] | None = None,
+             distribution: Callable[[float], tuple[complex, complex]] | None = None
+             ) -> LocatorEstimate:
     """Eriksson-type method: both source impedances give the fault current.
 
     Parameters
@@ -279,6 +281,10 @@ def eriksson(end: TerminalPhasors, line: LineData,
         [ohm]) of the whole network outside the line seen at its two buses
         (:func:`distribution_factors_network`): a parallel circuit or a mesh
         between the ends then shares the fault current as it does.
+    distribution : callable, optional
+        Instead of both, ``d_km -> (D1, D0)`` itself (e.g.
+        :func:`eventlab.locate.model_link.sampled_distribution`, which holds
+        the zero-sequence coupling of a parallel circuit too).
 
     Returns
     -------
@@ -300,7 +306,7 @@ def eriksson(end: TerminalPhasors, line: LineData,
     resulting from remote-end infeed", IEEE Trans. PAS-104(2), pp. 424-436,
     1985 (from memory).
     """
-    if external is None and (z_local is None or z_remote is None):
+    if distribution is None and external is None and (z_local is None or z_remote is None):
         raise SignalError("eriksson: give the source impedances behind both ends, or the "
                           "external network's two-port")
     loop = select_loop(end.fault_type)
@@ -312,7 +318,9 @@ def eriksson(end: TerminalPhasors, line: LineData,
     i_zm = _mutual(end, line, loop)[0]
 
     def dist(d):
-        if external is not None:
+        if distribution is not None:
+            d1, d0 = distribution(d)
+        elif external is not None:
             d1, d0 = distribution_factors_network(line, d, external[0], external[1])
         else:
             d1, d0 = distribution_factors(line, d, z_local, z_remote)
@@ -338,6 +346,8 @@ def eriksson(end: TerminalPhasors, line: LineData,
     r_loop = float(((v - loop_drop(line, d, end.i_fault, loop, i_zm)) * dist(d) / d_i).real)
     return _estimate("eriksson", end, line, d, loop,
                      fault_resistance_from_loop(end.fault_type, r_loop),
-                     ("the rest of the network as the model's two-port at the line's buses"
+                     ("the model's own current distribution along the line"
+                      if distribution is not None else
+                      "the rest of the network as the model's two-port at the line's buses"
                       if external is not None else
                       "two-source network with the model's source impedances",))

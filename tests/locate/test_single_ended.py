@@ -275,11 +275,11 @@ def test_network_two_port_reduces_to_the_two_source_factor():
         assert a == pytest.approx(b, rel=1e-9)
 
 
-def test_eriksson_parallel_circuit_phase_faults_exact_ground_faults_closer():
+def test_eriksson_on_a_coupled_parallel_circuit():
     # coupled pair: phase loops see no zero sequence, so the two-port is exact; a
     # ground loop keeps an error from the zero-sequence coupling the two-port cannot
     # hold (measured: -0.23 % of the line at 85 % with the source impedances alone,
-    # -0.135 % with the two-port)
+    # -0.135 % with the two-port), which the model's own distribution removes
     from eventlab.locate.model_link import external_two_port
     model = _coupled_pair(homogeneous=False)
     t0 = model.terminal("VM-L1")
@@ -296,3 +296,16 @@ def test_eriksson_parallel_circuit_phase_faults_exact_ground_faults_closer():
     e_net = abs(eriksson(end, line, external=ext).distance_km - 85.0)
     e_two = abs(eriksson(end, line, zs, zr).distance_km - 85.0)
     assert e_net < 0.7 * e_two
+    # the model's own distribution along the line (sampled, splined) holds the
+    # coupling too: exact, and what locate_event uses on a coupled line
+    from eventlab.locate import locate_event
+    from eventlab.locate.model_link import sampled_distribution
+    for code, frac in (("AG", 0.85), ("CAG", 0.33), ("BG", 0.05)):
+        res = solve_fault(model, FaultSpec("L1", frac, code, 20.0, 3.0 if code == "CAG" else 0.0))
+        end = phasors_from_solution(res, model, "VM-L1", parallel_terminal_id="VM-L2")
+        got = eriksson(end, line, distribution=sampled_distribution(model, "L1", t0))
+        assert got.distance_km == pytest.approx(frac * LENGTH_KM, abs=TOL_KM)
+        assert got.fault_resistance_ohm == pytest.approx(20.0, abs=1e-6)
+        rep = locate_event(model, [end], line="L1")
+        er = next(m for m in rep.methods if m.method == "eriksson")
+        assert er.distance_km == pytest.approx(frac * LENGTH_KM, abs=TOL_KM)
