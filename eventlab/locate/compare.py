@@ -77,6 +77,12 @@ def comparison_rows(terminal: str, measured: TerminalPhasors, v_abc: np.ndarray,
             for q, m, c in zip(_QUANTITIES, meas, comp, strict=True)]
 
 
+#: a fitted line Z0 scale further than this from 1 is reported in the verdicts
+#: (common practice, no source: line Z0 from calculated constants is seldom known
+#: better than a few per cent)
+Z0_SCALE_NOTE = 0.03
+
+
 def verdicts(rows: Sequence[ComparisonRow], fault_type: str, fit: ModelFitResult | None = None,
              ratio_tolerance: float = 0.10, angle_tolerance_deg: float = 10.0, *,
              suspect: Mapping[str, Sequence[bool]] | None = None) -> list[str]:
@@ -160,6 +166,10 @@ def verdicts(rows: Sequence[ComparisonRow], fault_type: str, fit: ModelFitResult
             if abs(math.log(k)) > math.log(1.25):
                 out.append(f"the fit put the {label} source impedance at {k:.2f} times the "
                            f"model's: source strength in the model suspected")
+        if abs(math.log(fit.z0_scale)) > math.log(1.0 + Z0_SCALE_NOTE):
+            out.append(f"the fit put the line's Z0 at {fit.z0_scale:.3f} times the model's: "
+                       f"the line's zero-sequence constants (earth resistivity, earth "
+                       f"wires) in the model suspected")
     return out
 
 

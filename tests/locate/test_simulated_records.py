@@ -191,3 +191,34 @@ def test_weakly_seen_high_resistance_fault(rf, both_see_it):
         assert any("located from VELLMOOR alone" in w for w in back.warnings)
         assert back.location.reference_terminal == "CARDON_REACH-VM-CR1"
         assert abs(back.location.distance_km - 0.8 * length) <= 0.005 * length
+
+
+def test_two_ended_fit_recovers_a_wrong_model_and_says_so():
+    # truth: the bundled sample was simulated with the model as written; here the
+    # locator gets a model whose remote source is 30 % weaker, local 15 % stronger and
+    # line Z0 5 % higher.  With both ends the fit finds those factors back and the
+    # verdicts name the remote source and the line Z0
+    import dataclasses
+
+    from eventlab.analysis import analyze
+    from eventlab.network.model import with_source
+    folder = ROOT / "sample_events" / "vm_cr1_bg"
+    truth = json.loads((folder / "truth.json").read_text())
+    model = load_model(ROOT / "models" / "northmarch_230kv.toml")
+    wrong = with_source(with_source(model, "CARDON_REACH", z_scale=1 / 0.7), "VELLMOOR",
+                        z_scale=1 / 1.15)
+    wrong = dataclasses.replace(wrong, lines=tuple(dataclasses.replace(ln, sections=tuple(
+        dataclasses.replace(s, z0_ohm_per_km=s.z0_ohm_per_km * 1.05) for s in ln.sections))
+        for ln in wrong.lines))
+    records = [read_record(folder / "VELLMOOR.cfg"), read_record(folder / "CARDON_REACH.cfg")]
+    loc = analyze(records, model=wrong).location
+    fit = loc.fit
+    assert fit.local_z_scale == pytest.approx(1.15, rel=0.03)
+    assert fit.remote_z_scale == pytest.approx(0.70, rel=0.03)
+    assert fit.z0_scale == pytest.approx(1 / 1.05, rel=0.01)
+    assert abs(loc.distance_km - truth["distance_km"]) <= 0.002 * loc.length_km
+    words = " ".join(loc.comparison.verdicts)
+    assert "remote source impedance at 0.70" in words and "line's Z0 at 0.95" in words
+    right = analyze(records, model=model).location
+    assert not any("Z0 at" in v or "source impedance at" in v
+                   for v in right.comparison.verdicts)
