@@ -816,8 +816,18 @@ def _locate(records: Sequence[Record], terms: Sequence[TerminalAnalysis], model,
 
     One end per record (the first terminal of the record that holds a fault),
     in record order: distances are from the first record's terminal.  Returns
-    None, with a warning saying why, when there is nothing to locate.
+    None, with a warning saying why, when there is nothing to locate.  A
+    record whose voltages rotate A-C-B is not located from: the signal chain
+    reads its phases as A-B-C, and what it finds there (a fault from the first
+    sample, the wrong type) would send a patrol to the wrong place.
     """
+    acb = sorted({records[t.record].station for t in terms
+                  if any("rotate A-C-B" in f for f in t.flags)})
+    if acb:
+        warnings.append(f"location: not made: the voltages of {', '.join(acb)} rotate A-C-B "
+                        f"and eventlab reads phases as A-B-C (check the VT wiring, or the "
+                        f"phase sequence of the system)")
+        return None
     ends = []
     for k, rec in enumerate(records):
         ta = next((t for t in terms if t.record == k and t.timeline.intervals), None)

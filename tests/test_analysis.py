@@ -508,3 +508,30 @@ def test_saturating_ct_current_left_out_of_the_fit():
         assert any("phase A at VELLMOOR-VM-CR1 left out" in a for a in fit.assumptions)
     words = " ".join(loc.comparison.verdicts)
     assert "IA" in words and "CT saturation suspected" in words
+
+
+def test_no_location_from_records_that_rotate_acb():
+    # the quick-start sample with the B and C channels swapped (what a recorder on an
+    # A-C-B system, or with crossed VT and CT wiring, stores): the chain reads phases
+    # as A-B-C, so it must not hand a distance to the crews (common practice, no source)
+    import dataclasses
+
+    from eventlab.network.model import load_model
+    from eventlab.records import read_record
+
+    def swapped(rec):
+        by = {c.name: c for c in rec.analog}
+        pairs = {"VB": "VC", "VC": "VB", "IB": "IC", "IC": "IB"}
+        analog = tuple(dataclasses.replace(c, values=by[pairs[c.name]].values)
+                       if c.name in pairs else c for c in rec.analog)
+        return dataclasses.replace(rec, analog=analog)
+
+    root = Path(__file__).parents[1]
+    ev = root / "sample_events" / "vm_cr1_bg"
+    model = load_model(root / "models" / "northmarch_230kv.toml")
+    recs = [swapped(read_record(ev / n)) for n in ("VELLMOOR.cfg", "CARDON_REACH.cfg")]
+    a = analyze(recs, model=model)
+    assert a.location is None
+    assert any("rotate A-C-B" in w and "location: not made" in w for w in a.warnings)
+    # the records as stored are located
+    assert analyze([read_record(ev / "VELLMOOR.cfg")], model=model).location is not None
