@@ -3,7 +3,7 @@
 import re
 
 import pytest
-from test_phase_domain import DATA  # tests/network is on sys.path (pytest rootdir mode)
+from test_phase_domain import DATA  # tests/network is on pytest's pythonpath (pyproject.toml)
 
 from eventlab.network.faults import FaultSpec, solve_fault
 from eventlab.network.model import model_from_dict
