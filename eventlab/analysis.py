@@ -559,6 +559,10 @@ def _terminal(record: Record, k_rec: int, term: TerminalChannels, n: int, fs: fl
     return ta, f_est, tracked
 
 
+#: words of the measurement check that finds A-C-B rotating voltages (the location
+#: step looks for them)
+ACB_FLAG = "rotate A-C-B"
+
 #: Plausibility limits of :func:`measurement_checks` (common practice, no source):
 #: a healthy pre-fault system has unbalance well under these.
 PREFAULT_UNBALANCE_LIMIT = 0.3     # |I0| or |I2| over |I1|, pre-fault
@@ -597,7 +601,7 @@ def measurement_checks(v012_pre, i012_pre, i012_fault=None, i_n_fault=None) -> l
     if v012_pre is not None:
         v0, v1, v2 = (abs(complex(x)) for x in v012_pre)
         if v1 > 0 and v2 > v1:
-            out.append(f"pre-fault voltages rotate A-C-B (|V2| {v2:.4g} V > |V1| {v1:.4g} V): "
+            out.append(f"pre-fault voltages {ACB_FLAG} (|V2| {v2:.4g} V > |V1| {v1:.4g} V): "
                        f"phase sequence or VT wiring suspected")
         elif v1 > 0 and max(v0, v2) > PREFAULT_V_UNBALANCE_LIMIT * v1:
             out.append(f"pre-fault voltages unbalanced (|V0|/|V1| {v0 / v1:.2f}, |V2|/|V1| "
@@ -822,7 +826,7 @@ def _locate(records: Sequence[Record], terms: Sequence[TerminalAnalysis], model,
     sample, the wrong type) would send a patrol to the wrong place.
     """
     acb = sorted({records[t.record].station for t in terms
-                  if any("rotate A-C-B" in f for f in t.flags)})
+                  if any(ACB_FLAG in f for f in t.flags)})
     if acb:
         warnings.append(f"location: not made: the voltages of {', '.join(acb)} rotate A-C-B "
                         f"and eventlab reads phases as A-B-C (check the VT wiring, or the "
@@ -850,29 +854,25 @@ def _locate(records: Sequence[Record], terms: Sequence[TerminalAnalysis], model,
         ends = ends[:2]
     if len(ends) == 2:
         late = _missed_inception(ends)
-        if late == 1:
+        if late is not None:
+            bad, good = ends[late], ends[1 - late]
+            first_t = model_terms.get(0) if late == 0 else None
             warnings.append(
-                f"location: {ends[1].station} shows the fault only from "
-                f"{ends[1].inception_s:.4f} s, with type {ends[1].fault_type} against "
-                f"{ends[0].fault_type} at {ends[0].station}: it missed the inception (a "
-                f"high-resistance fault seen weakly at that end?) and its phasors are not of "
-                f"the fault's first stage; located from {ends[0].station} alone")
-            ends = ends[:1]
-        elif late == 0:
-            first_t = model_terms.get(0)
-            warnings.append(
-                f"location: {ends[0].station} shows the fault only from "
-                f"{ends[0].inception_s:.4f} s, with type {ends[0].fault_type} against "
-                f"{ends[1].fault_type} at {ends[1].station}: it missed the inception (a "
-                f"high-resistance fault seen weakly at that end?) and its phasors are not of "
-                f"the fault's first stage; located from {ends[1].station} alone"
+                f"location: {bad.station} shows the fault only from {bad.inception_s:.4f} s, "
+                f"with type {bad.fault_type} against {good.fault_type} at {good.station}: it "
+                f"missed the inception (a high-resistance fault seen weakly at that end?) and "
+                f"its phasors are not of the fault's first stage; located from "
+                f"{good.station} alone"
                 + ("" if first_t is None else f", distances given from {first_t.id}"))
-            try:
-                rep = locate_event(model, ends[1:], line=line, options=opts.locate)
-                return rep if first_t is None else rep.seen_from(model, first_t.id)
-            except (ModelError, SignalError) as exc:
-                warnings.append(f"location: not made ({exc})")
-                return None
+            if late == 1:
+                ends = ends[:1]
+            else:
+                try:
+                    rep = locate_event(model, [good], line=line, options=opts.locate)
+                    return rep if first_t is None else rep.seen_from(model, first_t.id)
+                except (ModelError, SignalError) as exc:
+                    warnings.append(f"location: not made ({exc})")
+                    return None
     try:
         return locate_event(model, ends, line=line, options=opts.locate)
     except (ModelError, SignalError) as exc:

@@ -11,10 +11,11 @@ from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 
 import numpy as np
+from scipy.interpolate import CubicSpline
 
 from eventlab.errors import ModelError
 from eventlab.network.faults import FaultResult, FaultSpec, solve_fault
-from eventlab.network.model import NetworkModel, Terminal, _station_key
+from eventlab.network.model import NetworkModel, Terminal, _station_key, without_line_capacitance
 from eventlab.network.perunit import z_base_ohm
 from eventlab.network.sequence import build_sequence_networks
 from eventlab.symmetrical import abc_to_012
@@ -227,11 +228,8 @@ def sampled_distribution(model: NetworkModel, line_id: str, terminal: Terminal,
     cubic spline in ``d``.  It holds what a two-port cannot: the zero-sequence
     coupling of a parallel circuit.  Returns ``d -> (D1, D0)``.
     """
-    from scipy.interpolate import CubicSpline
     ln = model.line(line_id)
-    bare = dataclasses.replace(model, lines=tuple(dataclasses.replace(x, sections=tuple(
-        dataclasses.replace(sec, c1_nf_per_km=0.0, c0_nf_per_km=0.0) for sec in x.sections))
-        for x in model.lines))
+    bare = without_line_capacitance(model)
     sign = -1.0 if terminal.ct_polarity == "reversed" else 1.0
     dists = np.linspace(0.0, ln.length_km, int(points))
     vals = []

@@ -47,7 +47,7 @@ import numpy as np
 
 from eventlab.errors import ModelError
 from eventlab.faulttypes import check_fault_type, faulted_phases
-from eventlab.network.model import NetworkModel
+from eventlab.network.model import NetworkModel, without_line_capacitance
 from eventlab.network.perunit import i_base_a, v_base_v, z_base_ohm
 from eventlab.network.sequence import SequenceNetwork, build_sequence_networks
 from eventlab.symmetrical import FORTESCUE, FORTESCUE_INV
@@ -600,10 +600,7 @@ def iec60909_model(model: NetworkModel, c_factor: float) -> NetworkModel:
     if not (c > 0 and math.isfinite(c)):
         raise ModelError(f"IEC 60909 voltage factor: expected a positive number, got {c_factor!r}")
     sources = tuple(dataclasses.replace(s, emf_pu=c, angle_rad=0.0) for s in model.sources)
-    lines = tuple(dataclasses.replace(ln, sections=tuple(
-        dataclasses.replace(sec, c1_nf_per_km=0.0, c0_nf_per_km=0.0) for sec in ln.sections))
-        for ln in model.lines)
-    return dataclasses.replace(model, sources=sources, lines=lines)
+    return dataclasses.replace(without_line_capacitance(model), sources=sources)
 
 
 def iec60909_fault(model: NetworkModel, spec: FaultSpec, case: str = "max") -> FaultResult:

@@ -287,6 +287,13 @@ def _station_key(name: str) -> str:
 
 # ----------------------------------------------------------------------------- variants
 
+def without_line_capacitance(model: NetworkModel) -> NetworkModel:
+    """A copy of ``model`` whose lines carry no shunt capacitance (series impedance only)."""
+    return dataclasses.replace(model, lines=tuple(dataclasses.replace(ln, sections=tuple(
+        dataclasses.replace(sec, c1_nf_per_km=0.0, c0_nf_per_km=0.0) for sec in ln.sections))
+        for ln in model.lines))
+
+
 def with_source(model: NetworkModel, bus: str, z_scale: float = 1.0,
                 emf_pu: float | None = None, angle_deg: float | None = None) -> NetworkModel:
     """A copy of ``model`` with the source at ``bus`` changed.

@@ -25,6 +25,7 @@ sums along the time axis, FIR filters are :func:`scipy.signal.lfilter` calls.
 
 from __future__ import annotations
 
+from functools import lru_cache
 from typing import Literal, NamedTuple, get_args
 
 import numpy as np
@@ -380,6 +381,14 @@ FIT_LOWPASS_HARMONIC = 6.0
 FIT_LOWPASS_ORDER = 4
 
 
+@lru_cache(maxsize=32)
+def _fit_lowpass(samples_per_cycle: int):
+    """``(b, a, zi)`` of the fit's low-pass at ``samples_per_cycle`` (computed once)."""
+    wn = 2.0 * min(FIT_LOWPASS_HARMONIC / samples_per_cycle, 0.4)   # fraction of Nyquist
+    b, a = butter(FIT_LOWPASS_ORDER, wn)
+    return b, a, lfilter_zi(b, a)
+
+
 def fit_prefilter(samples, end_index: int, samples_per_cycle: int,
                   cycle_samples: float | None = None):
     """The samples up to ``end_index`` through the fit's low-pass, and its gain.
@@ -394,9 +403,8 @@ def fit_prefilter(samples, end_index: int, samples_per_cycle: int,
     """
     x = np.asarray(samples, dtype=float)[..., :int(end_index) + 1]
     n = int(samples_per_cycle)
-    wn = 2.0 * min(FIT_LOWPASS_HARMONIC / n, 0.4)          # fraction of Nyquist
-    b, a = butter(FIT_LOWPASS_ORDER, wn)
-    zi = lfilter_zi(b, a) * x[..., :1]
+    b, a, zi0 = _fit_lowpass(n)
+    zi = zi0 * x[..., :1]
     y, _ = lfilter(b, a, x, axis=-1, zi=zi)
     z = np.exp(-2j * np.pi / (n if cycle_samples is None else float(cycle_samples)))
     gain = complex(np.polyval(b[::-1], z) / np.polyval(a[::-1], z))
