@@ -229,6 +229,7 @@ def _timeline_dict(tl: Timeline | None, f0: float | None) -> dict:
                     float(x) for x in iv.i_distortion]},
             "windows": {"prefault": iv.prefault.to_dict() if iv.prefault else None,
                         "fault": iv.fault.to_dict()},
+            "remote_open": None if iv.remote_open is None else iv.remote_open.to_dict(),
         } for iv in tl.intervals],
         "status_edges": [e.to_dict() for e in tl.edges],
         "flags": list(tl.flags),

@@ -130,6 +130,12 @@ def _terminal_text(t: TerminalAnalysis, f0: float) -> list[str]:
                    f"{_ms(iv.prefault.end_s).strip()}; fault {_ms(iv.fault.start_s).strip()} "
                    f".. {_ms(iv.fault.end_s).strip()}" + (" (flagged)" if iv.fault.flagged
                                                           else ""))
+    ro = tl.intervals[-1].remote_open
+    if ro is not None:
+        out.append(f"    Other end  : opened first, currents changed at {_ms(ro.change_s).strip()}; "
+                   f"fed from this end alone over {_ms(ro.window.start_s).strip()} .. "
+                   f"{_ms(ro.window.end_s).strip()} (unfaulted phases "
+                   f"{100 * ro.healthy_ratio:.1f} % of the faulted)")
     out.append("    Currents [A primary]      pre-fault             fault window      peak")
     roles = dict(t.channels)
     for p in "ABC":

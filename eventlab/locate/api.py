@@ -23,6 +23,7 @@ from .model_link import (
     pair_ends,
     sampled_distribution,
 )
+from .radial import radial_stage
 from .single_ended import eriksson, modified_takagi, reactance, takagi
 from .structures import StructureSpan, locate_structures
 from .two_ended import (
@@ -271,6 +272,23 @@ def locate_event(model: NetworkModel, ends: Sequence[TerminalPhasors], line: str
         if est is not None:
             methods.append(est)
 
+    # the stage after the other end opened first, at either end
+    for k, (e, t) in enumerate(zip(ends, terms, strict=True)):
+        if e.i_remote_open is None:
+            continue
+        est = _try(notes, f"radial_stage ({t.id})", radial_stage, e,
+                   line_from(model, line_id, t))
+        if est is None:
+            continue
+        if k:
+            est = LocatorEstimate(
+                est.method, length - est.distance_km, length, ref_t.id,
+                est.fault_resistance_ohm,
+                est.notes + (f"from {t.id}'s record, after {ref_t.id} opened first",),
+                dict(est.extra, measured_from=t.id))
+        methods.append(est)
+    radial = next((m for m in methods if m.method == "radial_stage"), None)
+
     # two-ended
     sync = None
     two = None
@@ -360,6 +378,18 @@ def locate_event(model: NetworkModel, ends: Sequence[TerminalPhasors], line: str
                            f"{opts.fit.ct_class}, VT class {opts.fit.vt_class} (limits as two "
                            f"sigma), line Z1 tolerance {opts.fit.z1_tolerance:.0%}"
                            + (", clock alignment" if two.method == "two_ended_sync" else ""))
+    elif radial is not None:
+        best = radial
+        sigma = math.hypot(opts.fit.z0_tolerance if code.endswith("G") else 0.0,
+                           opts.fit.z1_tolerance) * best.distance_km / 2
+        k = opts.fit.coverage_factor
+        interval = (max(0.0, best.distance_km - k * sigma),
+                    min(length, best.distance_km + k * sigma))
+        parts = {"line_z": sigma}
+        assumptions.append(f"stage with the other end open: interval +/- {k:g} sigma from "
+                           f"the line impedance tolerances (Z1 {opts.fit.z1_tolerance:.0%}"
+                           + (f", Z0 {opts.fit.z0_tolerance:.0%}" if code.endswith("G") else "")
+                           + ", as two sigma, on the distance)")
     elif mt is not None or methods:
         best = mt or methods[-1]
         half = 0.05 * length
@@ -370,6 +400,11 @@ def locate_event(model: NetworkModel, ends: Sequence[TerminalPhasors], line: str
     else:
         raise SignalError(f"locate: no method could locate the fault on line {line_id}; "
                           + "; ".join(notes))
+    if radial is not None and best is not radial and not (
+            interval[0] <= radial.distance_km <= interval[1]):
+        notes.append(f"the stage with the other end open reads {radial.distance_km:.2f} km, "
+                     f"outside the interval: a model error (the remote source, the line) or "
+                     f"a fault that changed when the other end opened")
     st = locate_structures(ld, best.distance_km, interval)
     return LocationReport(
         line_id=line_id, reference_terminal=ref_t.id, length_km=length, fault_type=code,

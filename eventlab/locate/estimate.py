@@ -13,7 +13,8 @@ class LocatorEstimate:
     ----------
     method : str
         Method name (``reactance``, ``takagi``, ``modified_takagi``,
-        ``eriksson``, ``two_ended_sync``, ``two_ended_unsync``, ``model_fit``).
+        ``eriksson``, ``radial_stage``, ``two_ended_sync``, ``two_ended_unsync``,
+        ``model_fit``).
     distance_km : float
         Distance from ``terminal`` along the route [km].
     length_km : float

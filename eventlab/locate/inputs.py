@@ -68,6 +68,12 @@ class TerminalPhasors:
         CT, :func:`eventlab.signals.timeline.saturating_phases`): the model fit
         leaves them out; the impedance methods, which need every current of
         their loop, still use them and say so.
+    v_remote_open, i_remote_open : complex array (3,), optional
+        Phasors [V], [A] of the stage after the other end opened first (the
+        fault fed from this end alone, :class:`eventlab.signals.timeline.RemoteOpenStage`),
+        on the same reference instant as the others; None when there was none.
+    remote_open_start_s : float, optional
+        Record time that stage's window starts [s].
     """
 
     terminal_id: str | None
@@ -85,10 +91,19 @@ class TerminalPhasors:
     i_parallel_residual: complex | None = None
     window_start_s: float | None = field(default=None, compare=False)
     i_suspect: tuple[bool, bool, bool] = (False, False, False)
+    v_remote_open: np.ndarray | None = field(default=None, compare=False)
+    i_remote_open: np.ndarray | None = field(default=None, compare=False)
+    remote_open_start_s: float | None = field(default=None, compare=False)
 
     def __post_init__(self) -> None:
         for name in ("v_pre", "i_pre", "v_fault", "i_fault"):
             object.__setattr__(self, name, _phasor3(getattr(self, name), name))
+        if (self.v_remote_open is None) != (self.i_remote_open is None):
+            raise SignalError("TerminalPhasors: v_remote_open and i_remote_open go together; "
+                              "expected both or neither")
+        for name in ("v_remote_open", "i_remote_open"):
+            if getattr(self, name) is not None:
+                object.__setattr__(self, name, _phasor3(getattr(self, name), name))
         sus = tuple(bool(x) for x in self.i_suspect)
         if len(sus) != 3:
             raise SignalError(f"TerminalPhasors.i_suspect: expected 3 flags (A, B, C), got "
@@ -130,9 +145,11 @@ class TerminalPhasors:
         r = np.exp(1j * angle_rad)
         i_par = None if self.i_parallel_residual is None else complex(
             self.i_parallel_residual * r)
+        stage = {} if self.i_remote_open is None else {
+            "v_remote_open": self.v_remote_open * r, "i_remote_open": self.i_remote_open * r}
         return replace(self, v_pre=self.v_pre * r, i_pre=self.i_pre * r,
                        v_fault=self.v_fault * r, i_fault=self.i_fault * r,
-                       i_parallel_residual=i_par)
+                       i_parallel_residual=i_par, **stage)
 
 
 def from_fault_interval(interval, *, station: str, frequency_hz: float,
@@ -162,9 +179,11 @@ def from_fault_interval(interval, *, station: str, frequency_hz: float,
 
     The interval's ``i_distortion`` (what the fit left of each current over the
     steady part of the fault) marks the phases of a saturating CT in
-    ``i_suspect``.
+    ``i_suspect``; its ``remote_open`` stage (the other end opened first)
+    gives ``v_remote_open``, ``i_remote_open``.
     """
     distortion = getattr(interval, "i_distortion", None)
+    stage = getattr(interval, "remote_open", None)
     return TerminalPhasors(
         terminal_id=terminal_id, station=station,
         v_pre=interval.v_prefault, i_pre=interval.i_prefault,
@@ -175,4 +194,7 @@ def from_fault_interval(interval, *, station: str, frequency_hz: float,
         i_parallel_residual=i_parallel_residual,
         window_start_s=float(interval.fault.start_s),
         i_suspect=tuple(bool(x) for x in saturating_phases(interval.i_fault, distortion))
-        if distortion is not None else (False, False, False))
+        if distortion is not None else (False, False, False),
+        v_remote_open=None if stage is None else stage.v,
+        i_remote_open=None if stage is None else stage.i,
+        remote_open_start_s=None if stage is None else float(stage.window.start_s))

@@ -1,0 +1,179 @@
+"""The stage of a fault fed from one end alone (the other end opened first).
+
+References: the fault solver (eventlab.network.faults, itself checked against
+pandapower and power-grid-model in tests/network) on a network where the line's
+far end has nothing behind it, which is that stage exactly; the closed-form
+input admittance of an open-ended line; and the time-domain simulator opening
+the far breaker first (an independent computation of the waveforms).
+"""
+
+from __future__ import annotations
+
+from dataclasses import replace
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+from eventlab.analysis import analyze
+from eventlab.errors import SignalError
+from eventlab.faulttypes import FAULT_TYPES
+from eventlab.locate import locate_event
+from eventlab.locate.inputs import from_fault_interval
+from eventlab.locate.model_link import line_from, phasors_from_solution
+from eventlab.locate.radial import open_line_admittance, radial_stage
+from eventlab.locate.single_ended import reactance
+from eventlab.network.faults import FaultSpec, solve_fault
+from eventlab.network.model import load_model, model_from_dict, with_source
+from eventlab.network.simulate import SimulationSpec, simulate
+
+LENGTH_KM = 180.0
+NORTHMARCH = Path(__file__).resolve().parents[2] / "models" / "northmarch_230kv.toml"
+
+
+def _radial_model(sections: bool):
+    """A 230 kV line fed from VELLMOOR only, its CARDON REACH end open (made-up data)."""
+    line = {"id": "L1", "from": "VELLMOOR", "to": "CARDON_REACH"}
+    if sections:
+        line["section"] = [
+            {"length_km": 60.0, "z1_ohm_per_km": [0.030, 0.38], "z0_ohm_per_km": [0.26, 1.15],
+             "c1_nf_per_km": 9.5, "c0_nf_per_km": 6.0},
+            {"length_km": 12.0, "z1_ohm_per_km": [0.05, 0.13], "z0_ohm_per_km": [0.3, 0.1],
+             "c1_nf_per_km": 250.0, "c0_nf_per_km": 250.0},
+            {"length_km": 108.0, "z1_ohm_per_km": [0.025, 0.33], "z0_ohm_per_km": [0.22, 1.05],
+             "c1_nf_per_km": 11.0, "c0_nf_per_km": 7.0},
+        ]
+    else:
+        line.update(length_km=LENGTH_KM, z1_ohm_per_km=[0.030, 0.38],
+                    z0_ohm_per_km=[0.26, 1.15], c1_nf_per_km=9.0, c0_nf_per_km=6.0)
+    data = {
+        "system": {"name": "radial test", "frequency_hz": 60.0, "base_mva": 100.0},
+        "bus": [{"id": "VELLMOOR", "kv": 230.0}, {"id": "CARDON_REACH", "kv": 230.0}],
+        "source": [{"bus": "VELLMOOR", "z1_ohm": [0.9, 9.5], "z0_ohm": [1.6, 14.0],
+                    "emf_pu": 1.02}],
+        "line": [line],
+        "terminal": [
+            {"id": "VM-L1", "line": "L1", "bus": "VELLMOOR", "station": "VELLMOOR"},
+            {"id": "CR-L1", "line": "L1", "bus": "CARDON_REACH", "station": "CARDON REACH"},
+        ],
+    }
+    return model_from_dict(data, source_name="<radial>")
+
+
+@pytest.mark.parametrize("sections", [False, True])
+@pytest.mark.parametrize("code", FAULT_TYPES)
+@pytest.mark.parametrize("fraction,rf", [(0.2137, 0.0), (0.6311, 25.0), (0.9533, 50.0)])
+def test_exact_on_the_solver_with_the_far_end_open(code, fraction, rf, sections):
+    # fed from one end, the fault current is this end's current less the open line's
+    # charging: exact whatever Rf, with the capacitance the simple reactance method
+    # neglects (it errs here by up to 7 km on the 180 km line)
+    model = _radial_model(sections)
+    rg = 3.0 if len(code) == 3 else 0.0
+    res = solve_fault(model, FaultSpec("L1", fraction, code, rf, rg))
+    end = phasors_from_solution(res, model, "VM-L1")
+    end = replace(end, v_remote_open=end.v_fault, i_remote_open=end.i_fault)
+    est = radial_stage(end, line_from(model, "L1", model.terminal("VM-L1")))
+    assert est.distance_km == pytest.approx(fraction * LENGTH_KM, abs=1e-6)
+    assert est.fault_resistance_ohm == pytest.approx(rf, abs=1e-6)
+
+
+def test_capacitance_matters_here():
+    # the test above would pass for the reactance method too if the charging were
+    # negligible: it is not, on this line
+    model = _radial_model(False)
+    res = solve_fault(model, FaultSpec("L1", 0.9533, "AG", 50.0))
+    end = phasors_from_solution(res, model, "VM-L1")
+    err = reactance(end, line_from(model, "L1", model.terminal("VM-L1"))).distance_km \
+        - 0.9533 * LENGTH_KM
+    assert abs(err) > 1.0
+
+
+def test_open_line_admittance_is_the_hyperbolic_closed_form():
+    # input admittance of a line open at its far end: Y = tanh(gamma l) / Zc with
+    # gamma = sqrt(z y), Zc = sqrt(z / y) (the long-line equations, e.g. Grainger &
+    # Stevenson, Power System Analysis, 1994, ch. 6, from memory)
+    model = _radial_model(False)
+    line = line_from(model, "L1", model.terminal("VM-L1"))
+    w = 2 * np.pi * 60.0
+    sec = line.sections[0]
+    for length in (0.0, 40.0, 130.0):
+        y = open_line_admittance(line, length, w)
+        for k, (z, c) in enumerate(((sec.z0_ohm_per_km, sec.c0_nf_per_km),
+                                    (sec.z1_ohm_per_km, sec.c1_nf_per_km),
+                                    (sec.z1_ohm_per_km, sec.c1_nf_per_km))):
+            ysh = 1j * w * c * 1e-9
+            expect = np.tanh(np.sqrt(z * ysh) * length) / np.sqrt(z / ysh)
+            assert y[k] == pytest.approx(expect, rel=1e-9, abs=1e-15)
+
+
+def test_no_stage_is_a_clear_error():
+    model = _radial_model(False)
+    res = solve_fault(model, FaultSpec("L1", 0.5, "AG"))
+    end = phasors_from_solution(res, model, "VM-L1")
+    with pytest.raises(SignalError, match="other end open"):
+        radial_stage(end, line_from(model, "L1", model.terminal("VM-L1")))
+
+
+def _sequential(code, fraction, rf, remote_delay_s, truth):
+    spec = SimulationSpec(line="VM-CR1", fraction=fraction, type=code, r_fault_ohm=rf,
+                          inception_s=0.1, relay_time_s=0.1, clear_after_s=0.15,
+                          duration_s=0.35, samples_per_cycle=64, noise=0.001, seed=3,
+                          remote_delay_s=remote_delay_s)
+    sim = simulate(truth, spec)
+    recs = [sim.records[t.id] for t in truth.terminals_of_line("VM-CR1")]
+    an = analyze(recs)
+    return recs, an
+
+
+@pytest.fixture(scope="module")
+def weak_remote():
+    # the far source 4x weaker than the model file: the single-ended methods' hard case
+    return with_source(load_model(NORTHMARCH), "CARDON_REACH", z_scale=4.0)
+
+
+@pytest.mark.parametrize("code,fraction,rf", [("AG", 0.93, 40.0), ("BC", 0.7, 2.0),
+                                              ("CAG", 0.4, 5.0)])
+def test_simulated_sequential_clearing(weak_remote, code, fraction, rf):
+    # the far end opens 80 ms before this one (a zone-2 clearing at VELLMOOR)
+    recs, an = _sequential(code, fraction, rf, -0.08, weak_remote)
+    local, remote = an.terminals[0], an.terminals[1]
+    stage = local.timeline.intervals[0].remote_open
+    assert stage is not None
+    # the change is seen from the local end within a cycle after the far end's first
+    # pole opened (the far record's own pole times, same clock)
+    first_far = min(s for s in remote.timeline.pole_open_s if s is not None)
+    assert first_far - 0.002 <= stage.change_s <= first_far + 1 / 60
+    assert stage.window.end_s < min(s for s in local.timeline.pole_open_s if s is not None)
+    assert remote.timeline.intervals[0].remote_open is None    # it opened first itself
+    end = from_fault_interval(local.timeline.intervals[0], station=recs[0].station,
+                              frequency_hz=recs[0].frequency_hz, record_start=recs[0].start,
+                              time0_s=float(recs[0].time[0]), samples_per_cycle=64)
+    rep = locate_event(weak_remote, [end], line="VM-CR1")
+    length = weak_remote.line("VM-CR1").length_km
+    est = next(m for m in rep.methods if m.method == "radial_stage")
+    assert abs(est.distance_km - fraction * length) < 0.001 * length
+    assert est.fault_resistance_ohm == pytest.approx(rf, abs=0.02 * rf + 0.1)
+    # the simple reactance method on the two-end fault window is far off in the hard case
+    react = next(m for m in rep.methods if m.method == "reactance")
+    if code == "AG":
+        assert abs(react.distance_km - fraction * length) > 0.05 * length
+
+
+def test_no_stage_when_both_ends_clear_together(weak_remote):
+    _, an = _sequential("AG", 0.6, 10.0, 0.0, weak_remote)
+    assert all(t.timeline.intervals[0].remote_open is None for t in an.terminals)
+
+
+def test_the_other_end_record_gives_it_when_this_end_opened_first(weak_remote):
+    recs, an = _sequential("AG", 0.8, 20.0, +0.08, weak_remote)
+    ends = [from_fault_interval(t.timeline.intervals[0], station=recs[t.record].station,
+                                frequency_hz=60.0, record_start=recs[t.record].start,
+                                time0_s=float(recs[t.record].time[0]), samples_per_cycle=64)
+            for t in an.terminals]
+    assert ends[0].i_remote_open is None and ends[1].i_remote_open is not None
+    rep = locate_event(weak_remote, ends, line="VM-CR1")
+    length = weak_remote.line("VM-CR1").length_km
+    est = next(m for m in rep.methods if m.method == "radial_stage")
+    assert est.terminal == "VELLMOOR-VM-CR1" and est.extra["measured_from"] == \
+        "CARDON_REACH-VM-CR1"
+    assert abs(est.distance_km - 0.8 * length) < 0.001 * length
