@@ -176,6 +176,7 @@ class LocationReport:
                 "residual_scale": f.chi2_scale, "interval_km": list(f.interval_km),
                 "sigma_km": f.sigma_km, "evaluations": f.nfev,
                 "terminals": list(f.used_terminals),
+                "fault_resistance_open_ohm": f.r_fault_open_ohm,
             }
         comp = []
         if self.comparison is not None:

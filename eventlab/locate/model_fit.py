@@ -52,7 +52,10 @@ from eventlab.network.model import NetworkModel, Terminal
 from eventlab.symmetrical import abc_to_012
 
 from .inputs import TerminalPhasors
-from .model_link import fraction_on_line
+from .line import LineData
+from .loops import fault_resistance_from_loop, loop_voltage, select_loop
+from .model_link import fraction_on_line, line_from
+from .radial import stage_loop
 
 #: Ratio error and phase displacement limits [fraction, minutes of arc] of
 #: protective CT classes (IEC 61869-2:2012, table for 5P/10P, from memory)
@@ -166,6 +169,9 @@ class ModelFitResult:
     used_terminals: tuple[str, ...]
     model: NetworkModel = field(repr=False, compare=False)
     z0_scale: float = 1.0
+    # the fault resistance of the stage after the other end opened first, where the
+    # reference end recorded one (sequential clearing) [ohm]
+    r_fault_open_ohm: float | None = None
 
     @property
     def fraction(self) -> float:
@@ -224,6 +230,11 @@ class _Problem:
     meas: np.ndarray = None
     pre: np.ndarray = None
     pre_sigma: np.ndarray = None
+    # the reference end's stage with the other end open (None: not seen), the line
+    # from that end, and the weight of the stage's fault-point mismatch [V]
+    stage_end: TerminalPhasors | None = None
+    stage_line: LineData | None = None
+    stage_sigma: float = 1.0
 
     def unpack(self, x):
         p = dict(zip(self.names, x, strict=True))
@@ -276,9 +287,25 @@ class _Problem:
             r.append(np.array([p["ln_kz0"] / self.opts.z0_tolerance]))
         return np.concatenate(r)
 
+    def stage_residual(self, x, z1_line: float = 1.0, end: TerminalPhasors | None = None):
+        """Fault-point mismatch of the stage with the other end open, weighted (2,) or (0,)."""
+        if self.stage_end is None:
+            return np.empty(0)
+        p = dict(zip(self.names, x, strict=True))
+        line = self.stage_line.scaled(z1_line, math.exp(p.get("ln_kz0", 0.0)))
+        v_l, i_l = stage_loop(end or self.stage_end, line, p["m"] * line.length_km)
+        r_loop = max(p["rf_open"], 0.0) / fault_resistance_from_loop(self.fault_type, 1.0)
+        d = (v_l - r_loop * i_l) / self.stage_sigma
+        return np.array([d.real, d.imag])
+
+    def total(self, vec, meas, x, z1_line: float = 1.0, end: TerminalPhasors | None = None):
+        """Residuals of the fault window, the priors and the stage with the other end open."""
+        return np.concatenate([self.residual_from(vec, meas, x),
+                               self.stage_residual(x, z1_line, end)])
+
     def residual(self, x):
         _, vec = self.states(self.bases(x), self.ends)
-        return self.residual_from(vec, self.meas, x)
+        return self.total(vec, self.meas, x)
 
 
 #: a suspect current's weight: its standard deviation this many times the largest
@@ -315,8 +342,10 @@ def _sigmas(ends: Sequence[TerminalPhasors], noise: float, floor: float) -> np.n
 
 
 def _scaled_end(e: TerminalPhasors, ct: complex = 1.0, vt: complex = 1.0) -> TerminalPhasors:
+    stage = {} if e.i_remote_open is None else {
+        "v_remote_open": e.v_remote_open * vt, "i_remote_open": e.i_remote_open * ct}
     return dataclasses.replace(e, v_pre=e.v_pre * vt, v_fault=e.v_fault * vt,
-                               i_pre=e.i_pre * ct, i_fault=e.i_fault * ct)
+                               i_pre=e.i_pre * ct, i_fault=e.i_fault * ct, **stage)
 
 
 # ----------------------------------------------------------------------------- the fit
@@ -363,6 +392,13 @@ def fit_fault(model: NetworkModel, line_id: str, ends: Sequence[TerminalPhasors]
     two_phase_ground = code in ("ABG", "BCG", "CAG")
     if two_phase_ground:
         names.append("rg")
+    # the stage after the other end opened first (sequential clearing): the fault
+    # fed from this end alone, with its own fault resistance (an arc changes with
+    # its current); it reads the distance through the line's Z0 along another
+    # direction than the two-end stage does, so with it Z0 is fitted from one end
+    stage = ends[0] if ends[0].i_remote_open is not None and code != "ABC" else None
+    if stage is not None:
+        names.append("rf_open")
     if opts.fit_local_source and any(model.sources[k].bus == ref.bus for k in groups[0]):
         names.append("ln_ks")
     if opts.fit_remote_source and groups[1]:
@@ -376,26 +412,31 @@ def fit_fault(model: NetworkModel, line_id: str, ends: Sequence[TerminalPhasors]
     # pull the distance, so the scale is fitted too (for a single-phase fault
     # one end cannot tell Z0 from the distance; its tolerance stays in the
     # interval as a held quantity)
-    fit_z0 = code.endswith("G") and (len(ends) >= 2 or two_phase_ground)
+    fit_z0 = code.endswith("G") and (len(ends) >= 2 or two_phase_ground or stage is not None)
     if fit_z0:
         names.append("ln_kz0")
     prob = _Problem(model, line_id, ref, ends, terminals, code, opts, names, groups)
     prob.meas = _measured(ends)
     prob.sigma = _sigmas(ends, opts.noise_fraction, opts.floor_fraction)
+    if stage is not None:
+        prob.stage_end = stage
+        prob.stage_line = line_from(model, line_id, ref)
+        # the measured loop voltage and the line's drop at the stage's current set
+        # the size of what measurement errors leave at the fault point
+        z_line = abs(prob.stage_line.z_to(prob.stage_line.length_km)[0])
+        v_loop = abs(loop_voltage(stage.v_remote_open, select_loop(code)))
+        i_max = float(np.max(np.abs(stage.i_remote_open)))
+        prob.stage_sigma = max((opts.noise_fraction + opts.floor_fraction)
+                               * (v_loop + z_line * i_max), 1e-9)
 
-    x0 = [float(np.clip(start_fraction, 0.0, 1.0)), float(np.clip(start_r_ohm, 0.0,
-                                                                   opts.r_max_ohm))]
-    lo, hi = [0.0, 0.0], [1.0, opts.r_max_ohm]
-    if two_phase_ground:
-        x0.append(1.0)
-        lo.append(0.0)
-        hi.append(opts.r_max_ohm)
-    for _name in names[len(x0):]:
-        x0.append(0.0)
-        lo.append(math.log(0.1))
-        hi.append(math.log(10.0))
-    x_scale = [0.1, 10.0] + ([10.0] if two_phase_ground else [])
-    x_scale += [0.3] * (len(names) - len(x_scale))
+    r_start = float(np.clip(start_r_ohm, 0.0, opts.r_max_ohm))
+    start = {"m": (float(np.clip(start_fraction, 0.0, 1.0)), 0.0, 1.0, 0.1),
+             "rf": (r_start, 0.0, opts.r_max_ohm, 10.0),
+             "rg": (1.0, 0.0, opts.r_max_ohm, 10.0),
+             "rf_open": (r_start, 0.0, opts.r_max_ohm, 10.0)}
+    log_scale = (0.0, math.log(0.1), math.log(10.0), 0.3)
+    x0, lo, hi, x_scale = (list(v) for v in zip(*(start.get(nm, log_scale) for nm in names),
+                                                strict=True))
 
     def run(xs):
         return least_squares(prob.residual, np.array(xs), bounds=(lo, hi), x_scale=x_scale,
@@ -436,7 +477,8 @@ def fit_fault(model: NetworkModel, line_id: str, ends: Sequence[TerminalPhasors]
         held.insert(0, ("line Z0", {"z0_line": 1 + h}, opts.z0_tolerance))
     for label, kw, tol in held:
         _, vec = prob.states(prob.bases(x, **kw), ends)
-        parts[label] = abs(sens(prob.residual_from(vec, prob.meas, x), h)) * tol
+        parts[label] = abs(sens(prob.total(vec, prob.meas, x, kw.get("z1_line", 1.0)),
+                                h)) * tol
     ct_r, ct_ph = CT_CLASSES[opts.ct_class]
     vt_r, vt_ph = VT_CLASSES[opts.vt_class]
     for k, t in enumerate(terminals):
@@ -448,7 +490,8 @@ def fit_fault(model: NetworkModel, line_id: str, ends: Sequence[TerminalPhasors]
             pert = list(ends)
             pert[k] = _scaled_end(ends[k], ct, vt)
             _, vec = prob.states(bases, pert)
-            r_c = prob.residual_from(vec, _measured(pert), x)
+            r_c = prob.total(vec, _measured(pert), x,
+                             end=pert[0] if k == 0 and stage is not None else None)
             parts[f"{label} {t.id}"] = abs(sens(r_c, h)) * tol
     sigma_km = math.sqrt(sum(v * v for v in parts.values()))
     m, rf, rg, ks, kr = prob.unpack(x)
@@ -473,7 +516,9 @@ def fit_fault(model: NetworkModel, line_id: str, ends: Sequence[TerminalPhasors]
         f"interval = estimate +/- {opts.coverage_factor:g} sigma, linearised; residual scale "
         f"{math.sqrt(chi2):.2f}",
         "mutual coupling to parallel circuits as in the network model",
-    ) + tuple(
+    ) + (("the stage after the other end opened first fitted too (its own fault "
+          "resistance; the open line's charging from the model)",) if stage is not None
+         else ()) + tuple(
         f"fault-window current of phase{'s' if sum(e.i_suspect) > 1 else ''} "
         f"{', '.join(p for p, b in zip('ABC', e.i_suspect, strict=True) if b)} at "
         f"{t.id} left out (CT saturation suspected)"
@@ -486,7 +531,9 @@ def fit_fault(model: NetworkModel, line_id: str, ends: Sequence[TerminalPhasors]
         sigma_parts_km=parts, residual_rms=float(np.sqrt(np.mean(sol.fun ** 2))),
         chi2_scale=math.sqrt(chi2), converged=bool(sol.status > 0), nfev=int(sol.nfev),
         assumptions=assumptions, used_terminals=tuple(t.id for t in terminals),
-        model=model, z0_scale=float(math.exp(dict(zip(names, x, strict=True)).get("ln_kz0", 0.0))))
+        model=model, z0_scale=float(math.exp(dict(zip(names, x, strict=True)).get("ln_kz0", 0.0))),
+        r_fault_open_ohm=None if stage is None else float(
+            dict(zip(names, x, strict=True))["rf_open"]))
 
 
 def computed_phasors(fit: ModelFitResult, ends: Sequence[TerminalPhasors],

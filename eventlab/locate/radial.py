@@ -60,6 +60,21 @@ def open_line_admittance(line: LineData, length_km: float, omega: float) -> np.n
     return -i / v
 
 
+def stage_loop(end: TerminalPhasors, line: LineData, d_km: float) -> tuple[complex, complex]:
+    """Loop voltage [V] and fault current [A] at ``d_km`` in the stage with the other end open.
+
+    ``V_f,loop(d)`` and ``I_f,loop(d)`` of (1) (module notes), from the end's
+    ``v_remote_open``, ``i_remote_open``; ``d_km`` is clamped to the line.
+    """
+    length = line.length_km
+    d = min(max(float(d_km), 0.0), length)
+    loop = select_loop(end.fault_type)
+    vf, i_arr = to_fault(line, d, abc_to_012(end.v_remote_open),
+                         abc_to_012(end.i_remote_open), end.omega)
+    i_f = i_arr - open_line_admittance(line, length - d, end.omega) * vf
+    return loop_voltage(seq012_to_abc(vf), loop), loop_current(seq012_to_abc(i_f), loop)
+
+
 def radial_stage(end: TerminalPhasors, line: LineData) -> LocatorEstimate:
     """Locate from the stage of the fault after the other end opened first.
 
@@ -87,19 +102,10 @@ def radial_stage(end: TerminalPhasors, line: LineData) -> LocatorEstimate:
                           f"(the other end did not open first, or that stage was shorter "
                           f"than two cycles)")
     loop = select_loop(end.fault_type)
-    v0 = abc_to_012(end.v_remote_open)
-    i0 = abc_to_012(end.i_remote_open)
     length = line.length_km
-    w = end.omega
-
-    def state(d: float):
-        vf, i_arr = to_fault(line, d, v0, i0, w)
-        i_f = i_arr - open_line_admittance(line, length - d, w) * vf
-        return (loop_voltage(seq012_to_abc(vf), loop),
-                loop_current(seq012_to_abc(i_f), loop))
 
     def g(d: float) -> float:
-        v_l, i_l = state(min(max(d, 0.0), length))
+        v_l, i_l = stage_loop(end, line, d)
         # continued beyond the ends with the line's slope, so a point just outside
         # (measurement error) still gives a root
         return float((v_l * np.conj(i_l)).imag / max(abs(i_l) ** 2, 1e-300)) \
@@ -111,7 +117,7 @@ def radial_stage(end: TerminalPhasors, line: LineData) -> LocatorEstimate:
                           f"resistive fault point on line {line.line_id}")
     # the root nearest the line
     d = min(roots, key=lambda x: max(-x, x - length, 0.0))
-    v_l, i_l = state(min(max(d, 0.0), length))
+    v_l, i_l = stage_loop(end, line, d)
     if abs(i_l) < 1e-9:
         raise SignalError(f"{end.station}: no fault current in the stage with the other end "
                           f"open")

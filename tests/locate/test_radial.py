@@ -153,6 +153,10 @@ def test_simulated_sequential_clearing(weak_remote, code, fraction, rf):
     est = next(m for m in rep.methods if m.method == "radial_stage")
     assert abs(est.distance_km - fraction * length) < 0.001 * length
     assert est.fault_resistance_ohm == pytest.approx(rf, abs=0.02 * rf + 0.1)
+    # the model fit takes the stage too, with its own fault resistance
+    assert rep.fit.r_fault_open_ohm == pytest.approx(rf, abs=0.02 * rf + 0.1)
+    assert any("other end opened first" in a for a in rep.fit.assumptions)
+    assert abs(rep.distance_km - fraction * length) < 0.002 * length
     # the simple reactance method on the two-end fault window is far off in the hard case
     react = next(m for m in rep.methods if m.method == "reactance")
     if code == "AG":
@@ -177,3 +181,23 @@ def test_the_other_end_record_gives_it_when_this_end_opened_first(weak_remote):
     assert est.terminal == "VELLMOOR-VM-CR1" and est.extra["measured_from"] == \
         "CARDON_REACH-VM-CR1"
     assert abs(est.distance_km - 0.8 * length) < 0.001 * length
+
+
+def test_fit_with_the_stage_and_z0_off_keeps_the_truth_in_its_interval(weak_remote):
+    # the model's line Z0 written 5 % high: one end still cannot tell Z0 from the
+    # distance (the stage reads the same loop impedance), so Z0 is fitted with its
+    # tolerance as the prior and the interval must still hold the truth
+    import dataclasses
+
+    recs, an = _sequential("AG", 0.93, 40.0, -0.08, weak_remote)
+    end = from_fault_interval(an.terminals[0].timeline.intervals[0], station=recs[0].station,
+                              frequency_hz=60.0, record_start=recs[0].start,
+                              time0_s=float(recs[0].time[0]), samples_per_cycle=64)
+    off = dataclasses.replace(weak_remote, lines=tuple(
+        dataclasses.replace(ln, sections=tuple(dataclasses.replace(
+            s, z0_ohm_per_km=s.z0_ohm_per_km * 1.05) for s in ln.sections))
+        if ln.id == "VM-CR1" else ln for ln in weak_remote.lines))
+    rep = locate_event(off, [end], line="VM-CR1")
+    d_true = 0.93 * weak_remote.line("VM-CR1").length_km
+    assert rep.interval_km[0] <= d_true <= rep.interval_km[1]
+    assert "line Z0" not in rep.uncertainty_km        # fitted, not held
