@@ -122,6 +122,14 @@ def events() -> list[Event]:
             ct_saturation_at=("VELLMOOR-VM-CR1",), noise=0.001, seed=19,
             start=_start(22, 9, 48, 13, 330000)),
             notes="close-in A-G at VELLMOOR with full offset; the VELLMOOR CT (600/5) saturates"),
+        Event("vm_cr1_sequential", m230, SimulationSpec(
+            line="VM-CR1", fraction=0.88, type="AG", r_fault_ohm=15.0, inception_s=0.1,
+            inception_angle_deg=70.0, relay_time_s=0.350, clear_after_s=0.400,
+            remote_delay_s=-0.328, duration_s=0.62, noise=0.001, seed=23,
+            start=_start(26, 16, 7, 38, 820000)),
+            notes="sequential clearing: A-G 15 ohm near CARDON REACH, which trips in zone 1 "
+                  "(22 ms); VELLMOOR trips in zone 2 (350 ms) and feeds the fault alone "
+                  "in between"),
         Event("or_hf1_ag", "orrin_isle_110kv.toml", SimulationSpec(
             line="OR-HF1", fraction=0.48, type="AG", r_fault_ohm=4.0, inception_s=0.1,
             relay_time_s=0.030, clear_after_s=0.090, duration_s=0.4, noise=0.001, seed=20,

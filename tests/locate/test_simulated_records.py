@@ -47,6 +47,26 @@ def test_bundled_two_ended_sample():
         assert rep.structures.nearest is not None
 
 
+def test_bundled_sequential_clearing_sample():
+    # CARDON REACH opened first (zone 1); VELLMOOR fed the fault alone until its
+    # zone-2 trip: that stage locates the fault without the sources or the load
+    folder = ROOT / "sample_events" / "vm_cr1_sequential"
+    truth = json.loads((folder / "truth.json").read_text())
+    records = [read_record(folder / "VELLMOOR.cfg"), read_record(folder / "CARDON_REACH.cfg")]
+    model = load_model(ROOT / "models" / "northmarch_230kv.toml")
+    length = model.line(truth["line"]).length_km
+    ends = _ends(records)
+    assert ends[0].i_remote_open is not None and ends[1].i_remote_open is None
+    rep = locate_event(model, ends[:1])
+    radial = next(m for m in rep.methods if m.method == "radial_stage")
+    assert abs(radial.distance_km - truth["distance_km"]) <= 0.002 * length
+    assert radial.fault_resistance_ohm == pytest.approx(truth["r_fault_ohm"], abs=0.3)
+    assert abs(rep.distance_km - truth["distance_km"]) <= 0.002 * length
+    assert rep.interval_km[0] <= truth["distance_km"] <= rep.interval_km[1]
+    two = locate_event(model, ends)
+    assert abs(two.distance_km - truth["distance_km"]) <= 0.002 * length
+
+
 @pytest.mark.parametrize("code, fraction, rf", [("CAG", 0.8, 8.0), ("ABC", 0.25, 1.0)])
 def test_simulated_fault_located(code, fraction, rf):
     model = load_model(ROOT / "models" / "northmarch_230kv.toml")
