@@ -276,6 +276,16 @@ def _terminal_dict(t: TerminalAnalysis, f0: float) -> dict:
 
 
 # ------------------------------------------------------------------ the chain
+#: a record whose voltages run further than this (relative) from its lf field's
+#: frequency is analysed at the wrong frequency: warned, and not located from
+#: (off-nominal operation stays within about 1 %; common practice, no source)
+FREQ_OFF_REL = 0.05
+
+#: a record is resampled onto a grid of at most this many times its own samples (its
+#: slowest rate segment at 1/64 of the fastest); beyond that the times are corrupt
+GRID_MAX_FACTOR = 64
+
+
 def _rate(record: Record) -> tuple[float, int, bool]:
     """(sample rate [Hz], samples per cycle used, resampled?) of a fixed-rate record.
 
@@ -293,8 +303,10 @@ def _rate(record: Record) -> tuple[float, int, bool]:
         k = int(np.flatnonzero(d <= 0)[0])
         raise SignalError(f"{where}: time does not increase at sample {k + 2}; expected "
                           f"increasing sample times")
-    # several rate segments (C37.111 nrates > 1): the fastest rate, the rest resampled
-    dt = float(np.median(d)) if _uniform(t) else float(np.min(d))
+    # several rate segments (C37.111 nrates > 1): the fastest rate, the rest resampled;
+    # evenly spaced time stamps of a coarse unit (260/261 us for 3840 Hz): the span
+    # over the steps, not the median step
+    dt = float(t[-1] - t[0]) / (t.size - 1) if _uniform(t) else float(np.min(d))
     fs = 1.0 / dt
     f0 = record.frequency_hz
     if not (f0 and np.isfinite(f0) and f0 > 0):
@@ -401,7 +413,13 @@ def _terminal(record: Record, k_rec: int, term: TerminalChannels, n: int, fs: fl
     skewed = [c.name for c in (*term.voltages, *term.currents, *extra_ch)
               if getattr(c, "skew_s", 0.0)]
     if abs(fs - n * f0) > 1e-6 * fs or not _uniform(record.time):
-        t = np.arange(int(np.floor(record.time[-1] * n * f0)) + 1) / (n * f0)
+        m = int(np.floor(record.time[-1] * n * f0)) + 1
+        if m > GRID_MAX_FACTOR * record.n_samples:
+            raise SignalError(f"{record.source or record.station}: the sample times span "
+                              f"{record.time[-1]:.6g} s for {record.n_samples} samples, "
+                              f"{m} samples at {n * f0:g} Hz; expected time stamps or sample "
+                              f"numbers that follow the record's rates (a corrupt one?)")
+        t = np.arange(m) / (n * f0)
         idx = np.clip(np.searchsorted(record.time, t, side="right") - 1, 0, record.time.size - 1)
         trips = tuple(replace(ch, values=np.asarray(ch.values)[idx]) for ch in term.trips)
         bkrs = tuple(replace(ch, values=np.asarray(ch.values)[idx]) for ch in term.breakers)
@@ -723,6 +741,7 @@ def analyze(records: Sequence[Record] | Record, model=None, line: str | None = N
     warnings: list[str] = []
     model_terms: dict[int, Any] = {}   # record index -> model [[terminal]] it was mapped with
     spc: dict[int, int] = {}           # record index -> samples per cycle used
+    off_freq: dict[int, str] = {}      # record index -> why its frequency is not lf's
     for k, rec in enumerate(records):
         fs, n, resampled = _rate(rec)
         spc[k] = n
@@ -762,6 +781,15 @@ def analyze(records: Sequence[Record] | Record, model=None, line: str | None = N
             if f_first is None:
                 f_first = f_est
             tracked_any |= tracked
+        if f_first is not None and abs(f_first - rec.frequency_hz) > FREQ_OFF_REL * \
+                rec.frequency_hz:
+            off_freq[k] = (f"its signals run at {f_first:.2f} Hz against the lf field's "
+                           f"{rec.frequency_hz:g} Hz (a wrong lf, or a record of another "
+                           f"system)")
+            warnings.append(f"record {k}: the voltages run at {f_first:.2f} Hz, the cfg's lf "
+                            f"field says {rec.frequency_hz:g} Hz: the phasors, the timing "
+                            f"and any location are computed for {rec.frequency_hz:g} Hz; "
+                            f"check lf")
         trig_s = None
         if rec.start is not None and rec.trigger is not None:
             trig_s = (rec.trigger - rec.start).total_seconds() + 1e-9 * (rec.trigger_ns -
@@ -777,7 +805,8 @@ def analyze(records: Sequence[Record] | Record, model=None, line: str | None = N
                    0 if terms else None)
     location = None
     if model is not None:
-        location = _locate(records, terms, model, line, model_terms, spc, opts, warnings)
+        location = _locate(records, terms, model, line, model_terms, spc, opts, warnings,
+                           off_freq)
     comparison = ()
     if location is not None and location.comparison is not None:
         comparison = tuple(location.comparison.rows)
@@ -814,9 +843,59 @@ def _missed_inception(ends) -> int | None:
     return None
 
 
+#: a phase's pre-fault voltage under this fraction of the largest phase's is a VT
+#: circuit fault (a blown fuse, an open or dead channel), not a system condition: a
+#: transmission system's phase voltages agree within a few per cent before a fault
+#: (common practice, no source)
+DEAD_VT_RATIO = 0.8
+
+
+#: pre-fault |V1| outside this range of the model bus's nominal phase voltage: the
+#: record's scaling (ratios, the P/S flag, units) or the model does not fit, and a
+#: location from it would be off by the same factor as its impedances
+#: (transmission systems run within about +/-10 %; common practice, no source)
+V_NOMINAL_RANGE = (0.7, 1.3)
+
+
+def _unusable(end, kv_nominal: float | None = None) -> str | None:
+    """Why an end's phasors cannot locate a fault (a dead or missing measurement), or None.
+
+    ``kv_nominal``: the model bus's nominal line-to-line voltage [kV], to check
+    the record's scaling against (see :data:`V_NOMINAL_RANGE`).
+    """
+    for kind, pre, flt in (("current", end.i_pre, end.i_fault),
+                           ("voltage", end.v_pre, end.v_fault)):
+        both = np.maximum(np.abs(pre), np.abs(flt))
+        if not np.all(np.isfinite(both)):
+            return f"its {kind} phasors are not finite"
+        dead = [p for p, x in zip("ABC", both, strict=True) if not x > 1e-9 * both.max()]
+        if dead:
+            return (f"no {kind} recorded in phase{'s' if len(dead) > 1 else ''} "
+                    f"{', '.join(dead)} (empty, missing or dead channel); a location needs "
+                    f"the three phase {kind}s")
+    vp = np.abs(end.v_pre)
+    if vp.max() > 0 and vp.min() < DEAD_VT_RATIO * vp.max():
+        p = "ABC"[int(np.argmin(vp))]
+        return (f"before the fault phase {p} read {100 * vp.min() / vp.max():.0f} % of the "
+                f"highest phase voltage (a blown VT fuse, an open or dead VT circuit); a "
+                f"location needs sound voltages")
+    if kv_nominal and vp.max() > 0:
+        v1 = abs(abc_to_012(end.v_pre)[1])
+        ratio = v1 / (kv_nominal * 1e3 / np.sqrt(3.0))
+        lo, hi = V_NOMINAL_RANGE
+        if not lo <= ratio <= hi:
+            return (f"its pre-fault positive-sequence voltage is {v1 / 1e3:.4g} kV, "
+                    f"{100 * ratio:.3g} % of the model's {kv_nominal:g} kV bus "
+                    f"({kv_nominal / np.sqrt(3.0):.4g} kV phase to ground): check the "
+                    f"record's ratios, its primary/secondary flag and units, and that the "
+                    f"model is this line's")
+    return None
+
+
 def _locate(records: Sequence[Record], terms: Sequence[TerminalAnalysis], model,
             line: str | None, model_terms: Mapping[int, Any], spc: Mapping[int, int],
-            opts: AnalysisOptions, warnings: list[str]):
+            opts: AnalysisOptions, warnings: list[str],
+            off_freq: Mapping[int, str] | None = None):
     """Fault location from the first fault interval of each record's faulted terminal.
 
     One end per record (the first terminal of the record that holds a fault),
@@ -834,12 +913,19 @@ def _locate(records: Sequence[Record], terms: Sequence[TerminalAnalysis], model,
                         f"phase sequence of the system)")
         return None
     ends = []
+    kvs: list[float | None] = []     # nominal kV of each end's bus in the model
+    known: list[str | None] = []     # a reason found before the phasors (frequency)
     for k, rec in enumerate(records):
         ta = next((t for t in terms if t.record == k and t.timeline.intervals), None)
         if ta is None:
             continue
         iv = ta.timeline.intervals[0]
         mt = model_terms.get(k)
+        try:
+            kvs.append(None if mt is None else model.bus(mt.bus).kv)
+        except ModelError:
+            kvs.append(None)
+        known.append((off_freq or {}).get(k))
         ip_name = ta.channels.get("IP")
         i_par = ta.fault.get(ip_name) if ip_name is not None else None
         ends.append(from_fault_interval(
@@ -852,19 +938,29 @@ def _locate(records: Sequence[Record], terms: Sequence[TerminalAnalysis], model,
         return None
     if len(ends) > 2:
         warnings.append(f"location: {len(ends)} faulted records; the first two are used")
-        ends = ends[:2]
+        ends, kvs, known = ends[:2], kvs[:2], known[:2]
+    unusable = [why or _unusable(e, kv) for e, kv, why in zip(ends, kvs, known, strict=True)]
+    if all(unusable):
+        warnings.append("location: not made: " + "; ".join(
+            f"{e.station}: {why}" for e, why in zip(ends, unusable, strict=True)))
+        return None
     if len(ends) == 2:
         late = _missed_inception(ends)
+        why = None
+        if late is None and any(unusable):
+            late = 0 if unusable[0] else 1
+            why = unusable[late]
         if late is not None:
             bad, good = ends[late], ends[1 - late]
             first_t = model_terms.get(0) if late == 0 else None
+            tail = (f"; located from {good.station} alone"
+                    + ("" if first_t is None else f", distances given from {first_t.id}"))
             warnings.append(
+                f"location: {bad.station} not used: {why}{tail}" if why is not None else
                 f"location: {bad.station} shows the fault only from {bad.inception_s:.4f} s, "
                 f"with type {bad.fault_type} against {good.fault_type} at {good.station}: it "
                 f"missed the inception (a high-resistance fault seen weakly at that end?) and "
-                f"its phasors are not of the fault's first stage; located from "
-                f"{good.station} alone"
-                + ("" if first_t is None else f", distances given from {first_t.id}"))
+                f"its phasors are not of the fault's first stage" + tail)
             if late == 1:
                 ends = ends[:1]
             else:

@@ -535,3 +535,96 @@ def test_no_location_from_records_that_rotate_acb():
     assert any("rotate A-C-B" in w and "location: not made" in w for w in a.warnings)
     # the records as stored are located
     assert analyze([read_record(ev / "VELLMOOR.cfg")], model=model).location is not None
+
+
+def _sample_pair():
+    from eventlab.network.model import load_model
+    from eventlab.records import read_record
+
+    root = Path(__file__).parents[1]
+    folder = root / "sample_events" / "vm_cr1_bg"
+    recs = [read_record(folder / "VELLMOOR.cfg"), read_record(folder / "CARDON_REACH.cfg")]
+    truth = json.loads((folder / "truth.json").read_text())
+    return recs, truth, load_model(root / "models" / "northmarch_230kv.toml")
+
+
+def _with_channel(rec, name, values):
+    import dataclasses
+
+    return dataclasses.replace(rec, analog=tuple(
+        dataclasses.replace(ch, values=values(ch)) if ch.name == name else ch
+        for ch in rec.analog))
+
+
+def test_dead_vt_phase_keeps_the_timeline_and_withholds_the_location():
+    # VB reads zero through the whole record (a blown VT fuse): the currents still
+    # time and classify the fault (the unbalance stands from the start), but the
+    # impedance of every loop through phase B is meaningless: no location from it
+    recs, truth, model = _sample_pair()
+    dead = [_with_channel(r, "VB", lambda ch: np.zeros_like(ch.values)) for r in recs]
+    a = analyze(dead, model=model)
+    for t in a.terminals:
+        assert t.fault_type == truth["type"]
+        assert abs(t.timeline.inception_s - truth["inception_s"]) <= 0.5e-3
+        assert any("VT circuit" in f for f in t.timeline.flags)
+    assert a.location is None
+    assert any("not made" in w and "phase B" in w for w in a.warnings)
+    # one sound end is enough: located from CARDON REACH, distances from VELLMOOR
+    a1 = analyze([dead[0], recs[1]], model=model)
+    length = model.line(truth["line"]).length_km
+    assert abs(a1.location.distance_km - truth["distance_km"]) <= 0.01 * length
+    assert any("VELLMOOR not used" in w for w in a1.warnings)
+
+
+def test_missing_currents_withhold_the_location_from_that_end():
+    recs, truth, model = _sample_pair()
+    gone = [_with_channel(_with_channel(_with_channel(
+        recs[1], "IA", lambda ch: np.full_like(ch.values, np.nan)),
+        "IB", lambda ch: np.full_like(ch.values, np.nan)),
+        "IC", lambda ch: np.full_like(ch.values, np.nan))]
+    a = analyze([recs[0]] + gone, model=model)
+    length = model.line(truth["line"]).length_km
+    assert abs(a.location.distance_km - truth["distance_km"]) <= 0.01 * length
+    assert any("CARDON REACH not used" in w and "no current" in w for w in a.warnings)
+    alone = analyze(gone, model=model)
+    assert alone.location is None
+
+
+def test_corrupt_time_stamp_does_not_make_a_huge_grid():
+    # one wild last time stamp (nrates 0) would ask for a resampling grid of
+    # millions of cycles: refused with a message, nothing allocated
+    e = fw.fault_event("AG", 0.0507)
+    rec = record_of(e)
+    t = np.array(rec.time, dtype=float)
+    t[-1] = 1e6
+    import dataclasses
+    with pytest.raises(SignalError, match="span"):
+        analyze(dataclasses.replace(rec, time=t, rates=()))
+
+
+def test_voltages_off_the_model_level_withhold_the_location_from_that_end():
+    # secondary values read as primary (a 2000:1 VT ratio lost): the end's impedances
+    # are off by the ratio of its VT to its CT ratio, so it must not locate
+    import dataclasses
+
+    recs, truth, model = _sample_pair()
+    low = dataclasses.replace(recs[0], analog=tuple(
+        dataclasses.replace(ch, values=ch.values / 2000.0) if ch.name.startswith("V") else ch
+        for ch in recs[0].analog))
+    a = analyze([low, recs[1]], model=model)
+    assert any("VELLMOOR not used" in w and "of the model's 230 kV bus" in w
+               for w in a.warnings)
+    length = model.line(truth["line"]).length_km
+    assert abs(a.location.distance_km - truth["distance_km"]) <= 0.01 * length
+
+
+def test_signals_off_the_lf_frequency_are_warned_and_not_located_from():
+    # the cfg's lf says 50 Hz, the signals run at 60 Hz (a wrong lf field)
+    import dataclasses
+
+    recs, _, model = _sample_pair()
+    wrong = dataclasses.replace(recs[0], frequency_hz=50.0)
+    a = analyze([wrong], model=model)
+    assert any("lf field says 50 Hz" in w for w in a.warnings)
+    assert a.location is None
+    assert any("not made" in w and "60.00 Hz" in w for w in a.warnings)

@@ -195,7 +195,7 @@ def _location_text(doc: dict) -> list[str]:
             u = "kV" if unit_scale == 1e3 else "A "
             out.append(f"    {c['terminal']:<21.21} {c['quantity']:<4} {mm / unit_scale:10.2f}"
                        f" {u} {md:+7.1f}d {cm / unit_scale:10.2f} {u} {cd:+7.1f}d "
-                       f"{c['ratio']:6.3f} {c['angle_diff_deg']:+7.2f}d")
+                       f"{_num(c['ratio'], '6.3f')} {_num(c['angle_diff_deg'], '+7.2f', 'd')}")
     for v in loc.get("verdict", []):
         out.append(f"  Verdict: {v}")
     bolted = loc.get("bolted_fault_currents") or {}

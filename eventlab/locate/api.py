@@ -195,6 +195,11 @@ def _try(notes: list[str], label: str, fn, *args, **kwargs):
     except (SignalError, ModelError, FitDidNotConverge) as exc:
         notes.append(f"{label}: not run ({exc})")
         return None
+    except (ValueError, ArithmeticError, np.linalg.LinAlgError) as exc:
+        # phasors the checks let through but the arithmetic cannot take (non-finite
+        # residuals, a singular system): this method gives no answer, the others may
+        notes.append(f"{label}: not run (numerical failure: {exc})")
+        return None
 
 
 def locate_event(model: NetworkModel, ends: Sequence[TerminalPhasors], line: str | None = None,

@@ -139,11 +139,16 @@ def decode_free_text(raw: bytes) -> str:
     return text.replace("\x1a", "")
 
 
+_COUNT_HINT = (" (a line of the other kind of channel: do the ##A and ##D counts on "
+               "line 2 match the channel lines?)")
+
+
 class _Lines:
     """A cursor over the lines of a .cfg with error helpers."""
 
     def __init__(self, text: str, path: str | None):
-        self.lines = [ln.rstrip("\r") for ln in text.split("\n")]
+        # CR LF, LF, or CR alone (as some older recorders end lines)
+        self.lines = re.split(r"\r\n|\r|\n", text)
         while self.lines and not self.lines[-1].strip():
             self.lines.pop()
         self.path = path
@@ -301,7 +306,8 @@ def parse_cfg(text: str, path: str | None = None) -> CfgInfo:
         if len(f) < 10 or (revision != 1991 and len(f) < 13):
             want = 10 if revision == 1991 else 13
             raise cur.error(ln, "An", f"analog channel {i + 1} of {n_analog}: expected "
-                                      f"{want} fields, found {len(f)}")
+                                      f"{want} fields, found {len(f)}" + _COUNT_HINT * (
+                                          len(f) in (3, 5)))
         idx = _int(cur, ln, "An", f[0], lo=1)
         a = _float(cur, ln, "a", f[5], max_abs=MAX_FACTOR)
         b = _float(cur, ln, "b", f[6], default=0.0, max_abs=MAX_FACTOR)
@@ -335,9 +341,9 @@ def parse_cfg(text: str, path: str | None = None) -> CfgInfo:
         f = _fields(s)
         if revision == 1991 and len(f) == 3:  # 1991: Dn,ch_id,y (from memory)
             f = [f[0], f[1], "", "", f[2]]
-        if len(f) < 5:
+        if len(f) < 5 or len(f) >= 10:
             raise cur.error(ln, "Dn", f"status channel {i + 1} of {n_status}: expected 5 "
-                                      f"fields, found {len(f)}")
+                                      f"fields, found {len(f)}" + _COUNT_HINT * (len(f) >= 10))
         idx = _int(cur, ln, "Dn", f[0], lo=1)
         y = _int(cur, ln, "y", f[4], lo=0, hi=1) if f[4] else 0
         status.append(StatusSpec(idx, f[1], f[2], f[3], y, ln))

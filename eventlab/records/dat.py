@@ -219,7 +219,7 @@ def _ascii_table_slow(buf: bytes, info: CfgInfo, path: str | None) -> np.ndarray
             line=line)
     na, ns, n_decl = info.n_analog, info.n_status, info.n_samples
     n_cols = 2 + na + ns
-    lines = buf.split(b"\n")
+    lines = re.split(rb"\r\n|\r|\n", buf)
     while lines and not lines[-1].strip():
         lines.pop()
     if len(lines) < n_decl:

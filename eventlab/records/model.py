@@ -137,7 +137,12 @@ class Record:
         if rates:
             return float(max(rates))
         if self.n_samples > 1:
-            dt = np.median(np.diff(self.time))
+            d = np.diff(self.time)
+            dt = float(np.median(d))
+            if dt > 0 and np.max(np.abs(d - dt)) <= 0.01 * dt:
+                # evenly spaced but stamped to a coarse unit (260/261 us for 3840 Hz):
+                # the span over the steps is the rate, the median step is not
+                dt = float(self.time[-1] - self.time[0]) / (self.n_samples - 1)
             if dt > 0:
                 return float(1.0 / dt)
         return 0.0

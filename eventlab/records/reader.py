@@ -68,6 +68,21 @@ def time_axis(info: CfgInfo, data: _dat.DatData, path: str | None = None) -> np.
             raise RecordFormatError("time stamp decreases; expected non-decreasing time stamps",
                                     path=path, line=k + 1, field="timestamp")
     else:
+        # a corrupt sample number would stretch the time axis (and any grid made on
+        # it) without bound; a dropped sample or two is kept
+        last = int(info.rates[-1][1])
+        top = 2 * max(last, n.size)
+        bad = np.flatnonzero((n < 0) | (n > top))
+        if bad.size:
+            k = int(bad[0])
+            raise RecordFormatError(
+                f"sample number {n[k]} outside 0..{top} (endsamp {last}, {n.size} samples); "
+                f"expected the sample's number", path=path, line=k + 1, field="n")
+        if n.size > 1 and np.any(np.diff(n) <= 0):
+            k = int(np.flatnonzero(np.diff(n) <= 0)[0]) + 1
+            raise RecordFormatError(f"sample number {n[k]} after {n[k - 1]}; expected "
+                                    f"increasing sample numbers", path=path, line=k + 1,
+                                    field="n")
         samp = [float(s) for s, _ in info.rates]
         ends = np.array([e for _, e in info.rates], dtype=np.int64)
         start_n, start_t = [], []

@@ -32,6 +32,23 @@ _UNITS = {
     "A": ("I", 1.0), "kA": ("I", 1e3), "KA": ("I", 1e3), "ka": ("I", 1e3), "mA": ("I", 1e-3),
     "a": ("I", 1.0),
 }
+# unit words found in recorders' cfg files, matched without regard to case; the
+# milli and mega prefixes (mV and MV, mA and MA) are case-sensitive and stay in _UNITS
+_UNIT_WORDS = {
+    "v": ("V", 1.0), "kv": ("V", 1e3), "volt": ("V", 1.0), "volts": ("V", 1.0),
+    "kilovolt": ("V", 1e3), "kilovolts": ("V", 1e3),
+    "a": ("I", 1.0), "ka": ("I", 1e3), "amp": ("I", 1.0), "amps": ("I", 1.0),
+    "ampere": ("I", 1.0), "amperes": ("I", 1.0), "kiloamp": ("I", 1e3),
+    "kiloamps": ("I", 1e3), "kiloampere": ("I", 1e3), "kiloamperes": ("I", 1e3),
+}
+
+
+def _unit(text: str) -> tuple[str, float] | None:
+    """(quantity "V"/"I", factor to SI) of a cfg ``uu`` field, or None when unknown."""
+    u = text.strip()
+    return _UNITS.get(u) or _UNIT_WORDS.get(u.casefold())
+
+
 _PHASES = {"A": "A", "B": "B", "C": "C", "N": "N", "G": "N", "L1": "A", "L2": "B", "L3": "C",
            "1": "A", "2": "B", "3": "C",
            "AN": "A", "BN": "B", "CN": "C", "AG": "A", "BG": "B", "CG": "C", "R": "N",
@@ -87,7 +104,7 @@ class TerminalChannels:
 
 def to_si(ch: AnalogChannel) -> AnalogChannel:
     """``ch`` with values in [V] or [A] when its unit is a multiple of them (kV, kA, mV, mA)."""
-    q = _UNITS.get(ch.unit.strip())
+    q = _unit(ch.unit)
     if q is None:
         return ch
     si_unit = "V" if q[0] == "V" else "A"
@@ -101,7 +118,7 @@ def to_si(ch: AnalogChannel) -> AnalogChannel:
 
 def quantity(ch: AnalogChannel) -> str:
     """"V", "I", or "" when the unit is neither a voltage nor a current unit."""
-    q = _UNITS.get(ch.unit.strip())
+    q = _unit(ch.unit)
     return q[0] if q is not None else ""
 
 

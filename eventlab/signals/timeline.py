@@ -537,7 +537,7 @@ def status_edges(time_s, channels: Sequence, role: str) -> tuple[StatusEdge, ...
 
 def fault_indicator(v_ph, i_ph, live, v1_ref: float, i_scale: float,
                     noise_floor_a: float = 0.0, i1_ref: complex | None = None,
-                    i012_ref=None) -> np.ndarray:
+                    i012_ref=None, v012_standing=None) -> np.ndarray:
     """Per-sample True where the phasors show a shunt fault.
 
     Parameters
@@ -560,6 +560,11 @@ def fault_indicator(v_ph, i_ph, live, v1_ref: float, i_scale: float,
         Pre-event sequence currents [A]: with them, a change of ``I2`` or
         ``I0`` by more than :data:`DELTA_UNBAL_RATIO` of ``max(|I1|, scale)``
         (and the floor) also shows a fault.
+    v012_standing : complex (3,), optional
+        Sequence voltages [V] of an unbalance that stands from the record's
+        start while the currents are balanced (a blown VT fuse, a dead VT
+        channel): the voltage unbalance criteria then test the change of
+        ``V2`` and ``V0`` from these instead of their size.
 
     Notes
     -----
@@ -582,7 +587,11 @@ def fault_indicator(v_ph, i_ph, live, v1_ref: float, i_scale: float,
         f |= (((d2 > DELTA_UNBAL_RATIO * base) & (d2 > floor))
               | ((d0 > DELTA_UNBAL_RATIO * base) & (d0 > floor)))
     if v1_ref > 0:
-        vm0, vm1, vm2 = np.abs(sequence_phasors(v_ph))
+        v012 = sequence_phasors(v_ph)
+        vm0, vm1, vm2 = np.abs(v012)
+        if v012_standing is not None:
+            vm0 = np.abs(v012[0] - v012_standing[0])
+            vm2 = np.abs(v012[2] - v012_standing[2])
         f |= live & ((vm1 < V_SAG * v1_ref) | (vm2 > V_UNBAL * v1_ref)
                      | (vm0 > V_UNBAL * v1_ref))
         if i1_ref is not None and np.isfinite(i1_ref):
@@ -695,8 +704,22 @@ def build_timeline(time_s, v_abc, i_abc, samples_per_cycle: int, *,
     noise_ph_v = 8.0 * float(noise_v.max()) * np.sqrt(2.0 / n)
     # weak-infeed current level and the noise floors of the zero-sequence pair [A, A, V]
     floors = (3.0 * noise_ph_a, noise_ph_a, noise_ph_v)
+    # a voltage unbalance standing from the first cycle while the currents are
+    # balanced is the VT circuit's (a blown fuse, a dead channel), not a fault
+    v012_first = abc_to_012(v_ph[:, k_ref])
+    i012_first = abc_to_012(i_ph[:, k_ref])
+    standing = None
+    if (v1_ref > 0 and max(abs(v012_first[0]), abs(v012_first[2])) > V_UNBAL * v1_ref
+            and max(abs(i012_first[0]), abs(i012_first[2]))
+            <= NEG_ZERO_RATIO * max(abs(i012_first[1]), i_scale)):
+        standing = v012_first
+        flags.append(f"voltages unbalanced from the record's start (|V0|/|V1| "
+                     f"{abs(v012_first[0]) / v1_ref:.2f}, |V2|/|V1| "
+                     f"{abs(v012_first[2]) / v1_ref:.2f}) with balanced currents: a VT "
+                     f"circuit fault (blown fuse, dead channel) suspected; the fault is "
+                     f"detected from the change of the voltages and from the currents")
     fault = fault_indicator(v_ph, i_ph, live, v1_ref, i_scale, noise_ph_a, i1_first_ph,
-                            abc_to_012(i_ph[:, k_ref]))
+                            i012_first, standing)
     runs = _runs(fault, min_len=max(n // 4, 2), max_gap=n // 2)
 
     edges = status_edges(t, trips, "trip") + status_edges(t, breakers, "breaker")

@@ -245,3 +245,47 @@ def test_random_bytes_as_dat(raw):
         except RecordFormatError:
             continue
         assert rec.n_samples == 4
+
+
+@pytest.mark.parametrize("n_last, words", [(4_000_000_000, "outside 0..8"), (2, "increasing")])
+def test_corrupt_sample_number_is_refused_before_any_time_axis(tmp_path, n_last, words):
+    # a sample number far beyond endsamp would stretch the time axis (and a resampling
+    # grid) to terabytes; one that repeats or goes back breaks the order of samples
+    # (C37.111-2013 clause 7: n is the sample number, 1.. endsamp; common practice for
+    # the margin of a dropped sample or two)
+    rows = ROWS[:3] + [(n_last,) + ROWS[3][1:]]
+    with pytest.raises(RecordFormatError, match=words) as exc:
+        read_record(write_case(tmp_path, "bad_n", GOOD_CFG, good_dat(rows)))
+    assert exc.value.field == "n" and exc.value.line == 4
+
+
+def test_a_dropped_sample_number_is_kept(tmp_path):
+    rows = ROWS[:3] + [(5,) + ROWS[3][1:]]
+    rec = read_record(write_case(tmp_path, "gap", GOOD_CFG, good_dat(rows)))
+    np.testing.assert_allclose(rec.time, [0.0, 1e-3, 2e-3, 4e-3])
+
+
+def test_rate_of_evenly_spaced_coarse_time_stamps_is_the_span_over_the_steps():
+    # 3840 Hz stamped in whole microseconds: steps of 260 and 261 us; the median step
+    # says 3846 Hz, the span over the steps 3840 Hz
+    from eventlab.records.build import make_record
+
+    t = np.round(np.arange(400) / 3840.0 * 1e6) * 1e-6
+    rec = make_record("VELLMOOR", t, [("VA", "A", "V", np.sin(2 * np.pi * 60 * t))])
+    assert rec.sample_rate_hz == pytest.approx(3840.0, rel=1e-5)
+
+
+def test_cfg_with_cr_only_line_endings_reads(tmp_path):
+    # some older recorders end lines with CR alone
+    cfg = GOOD_CFG.replace("\n", "\r")
+    rec = read_record(write_case(tmp_path, "cr", cfg, good_dat()))
+    np.testing.assert_allclose(rec.analog[0].values, [0.1, -0.1, 0.05, 0.07])
+
+
+def test_channel_counts_that_do_not_match_the_lines_say_so(tmp_path):
+    # line 2 declares one analog channel less than the file lists: the second analog
+    # line is then read as a status line
+    cfg = replace_line(GOOD_CFG, 2, "2,1A,1D")
+    with pytest.raises(RecordFormatError, match="##A and ##D counts") as exc:
+        read_record(write_case(tmp_path, "counts", cfg, good_dat()))
+    assert exc.value.line == 4 and exc.value.field == "Dn"

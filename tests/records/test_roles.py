@@ -43,6 +43,18 @@ def test_units_rescaled_to_si():
     assert {c.unit for c in t.voltages} == {"V"} and {c.unit for c in t.currents} == {"A"}
 
 
+@pytest.mark.parametrize("v_unit, i_unit, fv, fi", [
+    ("Kv", "Ka", 1e3, 1e3), ("KV", "kA", 1e3, 1e3), ("Volts", "Amps", 1.0, 1.0),
+    ("kilovolts", "amperes", 1e3, 1.0), ("mV", "mA", 1e-3, 1e-3), ("MV", "A", 1e6, 1.0)])
+def test_unit_words_in_any_case_but_milli_and_mega_apart(v_unit, i_unit, fv, fi):
+    # recorders write "Kv", "Volts", "Amps"; the SI prefixes m (milli) and M (mega)
+    # differ only in case and are kept apart (SI brochure, from memory)
+    rec = make_record("X", 1000.0, terminal_channels(v_unit=v_unit, i_unit=i_unit))
+    (t,) = map_terminals(rec)
+    np.testing.assert_allclose(t.v_abc, np.full((3, N), fv))
+    np.testing.assert_allclose(t.i_abc, np.full((3, N), 2.0 * fi))
+
+
 def test_sixteen_circuit_recorder_by_name_prefix():
     analog, status = [], []
     for k in range(1, 17):
