@@ -192,3 +192,53 @@ def test_onset_is_a_departure_from_the_baseline_not_from_zero():
     d2 = superimposed(v2[None, :], n, n)
     k = detect_onset(d2, search, base, peak)
     assert k is not None and abs(k - 12 * n) <= 2
+
+
+def _staged_bg(healthy_after_a: float):
+    """B-G fault whose second stage has the faulted current five times larger.
+
+    Stage 1 (0.1 s): both ends in, IB 1.5 kA, the sound phases carry 400 A of load.
+    Stage 2 (0.16 s): IB 5 kA and the sound phases carry ``healthy_after_a``: 400 A
+    for an arc whose resistance dropped (the load stays), 20 A (line charging) for
+    the other end opening first.  This end's poles open at 0.30 s.  Phasors written
+    down directly (made-up values, 60 Hz, 64 samples per cycle).
+    """
+    f, n = 60.0, 64
+    t = np.arange(int(0.35 * f * n)) / (f * n)
+    w = 2 * np.pi * f
+    a = np.exp(-2j * np.pi / 3)
+    e = 132.8e3 * np.array([1, a, a * a])
+    load = 400.0 * np.exp(-1j * np.radians(10)) * np.array([1, a, a * a])
+    v = np.zeros((3, t.size))
+    i = np.zeros((3, t.size))
+    for k, tk in enumerate(t):
+        if tk < 0.1:
+            vv, ii = e, load
+        elif tk < 0.16:
+            vv = e * np.array([1.0, 0.75, 1.0])
+            ii = load + np.array([0, 1500.0 * a * np.exp(-1.3j), 0])
+        elif tk < 0.30:
+            vv = e * np.array([1.0, 0.35, 1.0])
+            ii = np.array([healthy_after_a * np.exp(-0.1j), 5000.0 * a * np.exp(-1.35j),
+                           healthy_after_a * a * a * np.exp(-0.1j)])
+        else:
+            vv, ii = e, np.zeros(3)
+        v[:, k] = np.sqrt(2) * np.real(vv * np.exp(1j * w * tk))
+        i[:, k] = np.sqrt(2) * np.real(ii * np.exp(1j * w * tk))
+    return build_timeline(t, v, i, n)
+
+
+def test_a_fault_that_grows_is_not_the_other_end_opening():
+    # the sound phases keep their load: the second stage is the fault's, both ends in
+    tl = _staged_bg(400.0)
+    assert tl.fault_type == "BG"
+    assert all(iv.remote_open is None for iv in tl.intervals)
+
+
+def test_the_other_end_opening_is_seen_when_the_sound_phases_lose_their_load():
+    tl = _staged_bg(20.0)
+    stage = tl.intervals[-1].remote_open
+    assert stage is not None
+    # the departure is the last sample still on the old state: one sample early at most
+    assert 0.16 - 1 / 3840 - 1e-9 <= stage.change_s <= 0.16 + 1 / 60
+    assert abs(stage.i[1]) == pytest.approx(5000.0, rel=0.01)
