@@ -13,10 +13,16 @@ angle within +/- 20 deg (load either way), the local source impedance
 between 0.6 and 2 times.  The line is as written (its Z0 error is what
 ``bench_location_accuracy.py`` perturbs).
 
+With ``--sequential`` the far end clears first instead, in zone 1 (15-40
+ms), and VELLMOOR in zone 2 (100-350 ms), so the VELLMOOR record holds the
+stage fed from that end alone; the ``radial_stage`` method's error is printed
+too.
+
 Run from the repository root::
 
     python benchmarks/bench_location_random.py            # 200 events
     python benchmarks/bench_location_random.py --n 40 --seed 3
+    python benchmarks/bench_location_random.py --n 60 --sequential
 
 Printed: the error of the answer eventlab stands behind
 (``location.distance_km``) with one record and with both, in % of the line,
@@ -47,24 +53,33 @@ from eventlab.network.simulate import SimulationSpec, simulate  # noqa: E402
 RATES = (16, 20, 24, 32, 48, 64, 96, 128, 256)
 
 
-def draw(rng, base):
+def draw(rng, base, sequential: bool = False):
     """One random event: (truth model, SimulationSpec)."""
     code = FAULT_TYPES[rng.integers(len(FAULT_TYPES))]
     two_phase_ground = len(code) == 3 and code != "ABC"
     relay = float(rng.uniform(0.015, 0.04))
+    far_relay = float(rng.uniform(0.015, 0.04))
+    zone2 = float(rng.uniform(0.10, 0.35))
     truth = with_source(base, "CARDON_REACH", z_scale=float(np.exp(rng.uniform(-0.7, 1.4))),
                         angle_deg=float(rng.uniform(-20.0, 20.0)))
     truth = with_source(truth, "VELLMOOR", z_scale=float(np.exp(rng.uniform(-0.5, 0.7))))
     spc = int(rng.choice(RATES))
     f_hz = base.system.frequency_hz
+    breaker = float(rng.uniform(0.025, 0.05))
+    if sequential:
+        timing = dict(relay_time_s=zone2, clear_after_s=zone2 + breaker,
+                      remote_delay_s=far_relay - zone2, duration_s=0.1 + zone2 + breaker + 0.1)
+    else:
+        timing = dict(relay_time_s=relay, clear_after_s=float(rng.uniform(0.04, 0.09)),
+                      remote_delay_s=max(float(rng.uniform(-0.02, 0.02)), 0.002 - relay),
+                      duration_s=0.3)
     spec = SimulationSpec(
         line=LINE, fraction=float(rng.uniform(0.03, 0.97)), type=code,
         r_fault_ohm=float(rng.uniform(0, 40) if involves_ground(code) else rng.uniform(0, 5)),
         r_ground_ohm=float(rng.uniform(0, 5)) if two_phase_ground else 0.0,
-        inception_s=0.1, inception_angle_deg=float(rng.uniform(0, 360)), relay_time_s=relay,
-        clear_after_s=float(rng.uniform(0.04, 0.09)), duration_s=0.3, samples_per_cycle=spc,
+        inception_s=0.1, inception_angle_deg=float(rng.uniform(0, 360)), samples_per_cycle=spc,
         noise=0.002, seed=int(rng.integers(1 << 16)), anti_alias_hz=AA_FRACTION * spc * f_hz,
-        remote_delay_s=max(float(rng.uniform(-0.02, 0.02)), 0.002 - relay))
+        **timing)
     return truth, spec
 
 
@@ -72,16 +87,19 @@ def main(argv=None) -> int:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--n", type=int, default=200, help="number of events (default 200)")
     ap.add_argument("--seed", type=int, default=1, help="random seed (default 1)")
+    ap.add_argument("--sequential", action="store_true",
+                    help="the far end clears first (zone 1), VELLMOOR in zone 2")
     args = ap.parse_args(argv)
     base = load_model(ROOT / "models" / "northmarch_230kv.toml")
     length = base.line(LINE).length_km
     rng = np.random.default_rng(args.seed)
-    err: dict[str, list[float]] = {"single": [], "two": [], "reactance": []}
+    err: dict[str, list[float]] = {"single": [], "two": [], "reactance": [],
+                                   "radial_stage": []}
     cover: dict[str, list[bool]] = {"single": [], "two": []}
     worst: dict[str, tuple] = {}
     t0 = time.perf_counter()
     for _ in range(args.n):
-        truth, spec = draw(rng, base)
+        truth, spec = draw(rng, base, args.sequential)
         ends = ends_of(simulate(truth, spec).records, truth)
         d = spec.fraction * length
         for kind, use in (("single", ends[:1]), ("two", ends)):
@@ -94,18 +112,25 @@ def main(argv=None) -> int:
                 worst[kind] = (e, rep.best.method, spec.type, round(spec.fraction, 3),
                                round(spec.r_fault_ohm, 1), spec.samples_per_cycle)
             if kind == "single":
-                r = next((m for m in rep.methods if m.method == "reactance"), None)
-                if r is not None:
-                    err["reactance"].append(100.0 * abs(r.distance_km - d) / length)
+                for name in ("reactance", "radial_stage"):
+                    r = next((m for m in rep.methods if m.method == name), None)
+                    if r is not None:
+                        err[name].append(100.0 * abs(r.distance_km - d) / length)
     print(f"# Location on {args.n} random events (seed {args.seed}), line {LINE} {length} km, "
-          f"model file as written (sources off by random factors), "
+          f"model file as written (sources off by random factors)"
+          + (", far end clearing first (zone 1), VELLMOOR in zone 2" if args.sequential
+             else "") + ", "
           f"{time.perf_counter() - t0:.0f} s")
     print()
     print("| answer | max error [% of line] | 95th percentile [%] | mean [%] | truth in interval |")
     print("| --- | --- | --- | --- | --- |")
     for kind, label in (("single", "single-ended answer"), ("two", "two-ended answer"),
-                        ("reactance", "reactance (baseline)")):
+                        ("reactance", "reactance (baseline)"),
+                        ("radial_stage", "radial_stage (stage with the far end open)")):
         e = np.array(err[kind])
+        if not e.size:
+            continue
+        label += f" ({e.size} of {args.n})" if e.size < args.n else ""
         cv = f"{100 * np.mean(cover[kind]):.1f} %" if kind in cover else "-"
         print(f"| {label} | {e.max():.2f} | {np.percentile(e, 95):.2f} | {e.mean():.2f} | {cv} |")
     print()

@@ -11,6 +11,7 @@ sample.
 
 from __future__ import annotations
 
+import dataclasses
 from collections.abc import Sequence
 from dataclasses import dataclass, field
 
@@ -100,7 +101,8 @@ class RemoteOpenStage:
     Attributes
     ----------
     change_s : float
-        Record time the currents departed from the two-end state [s].
+        Record time the currents (else the voltages) departed from the two-end
+        state [s].
     window : Window
         The window the phasors come from (from one cycle after the change,
         up to three cycles, ending an eighth of a cycle before this end's first
@@ -133,6 +135,10 @@ class RemoteOpenStage:
 #: ends closed they carry load and the difference of the two ends' distributions
 #: (common practice, no source)
 REMOTE_OPEN_HEALTHY_RATIO = 0.2
+#: changes followed at most, each to the next, to find the last one before this
+#: end's poles open (the stage fed from this end alone)
+STAGE_MAX_CHANGES = 20
+
 #: ... and the largest unfaulted-phase current at most this fraction of what it was
 #: with both ends closed (load gone: 25 A of charging against 400 A of load on the
 #: sequential-clearing sample, 0.06; common practice for the margin, no source)
@@ -986,7 +992,8 @@ def _stages(t, v, i, v_ph, i_ph, n, fs, k_on, run_end, poles, kind, mitigate, ta
             if j + 1 == len(bounds) and full.end_index >= n - 1:
                 # the other end opening first, at any time before this end's poles
                 radial = remote_open_stage(t, v, i, n, fs, full.start_index, stop, cc.type,
-                                           i_before=ii, cycle_samples=cs)
+                                           i_before=ii, tau_s=tau if j == 0 else None,
+                                           cycle_samples=cs)
         out.append(FaultInterval(
             kind=kind if j == 0 else "evolved", type=cc.type,
             start_s=onset_s if (j == 0 and onset_s is not None) else _onset_time(t, ks),
@@ -998,12 +1005,51 @@ def _stages(t, v, i, v_ph, i_ph, n, fs, k_on, run_end, poles, kind, mitigate, ta
             tau_s=tau if j == 0 else None, i_prefault=_ro(i_pre), v_prefault=_ro(v_pre),
             i_fault=_ro(ii), v_fault=_ro(vv), i_residual=i_res, v_residual=v_res,
             i_distortion=i_last, remote_open=radial))
-    return out
+    return _merge_pole_scatter(out, n / fs, flags)
+
+
+#: the stages between a fault and the same fault fed from this end alone last at
+#: most this many cycles to count as the other end's poles opening one by one
+#: (each pole at its own current zero: half a cycle apart at most, seen through a
+#: one-cycle window and the half-cycle confirmation; common practice, no source)
+POLE_SCATTER_CYCLES = 3.0
+
+
+def _merge_pole_scatter(out: list[FaultInterval], cycle_s: float,
+                        flags: list[str]) -> list[FaultInterval]:
+    """One interval where an 'evolution' was the other end's poles opening one by one.
+
+    While the far breaker's poles open at their own current zeros the near
+    end briefly sees another type (B-C looks like B-C-G while one far pole
+    is open); when the fault is then of its first type again, fed from this
+    end alone (:func:`fed_from_one_end`), the stages are one fault whose
+    last part is its :class:`RemoteOpenStage`.
+    """
+    if len(out) < 3 or out[0].kind != "fault":
+        return out
+    first, last = out[0], out[-1]
+    own = set(faulted_phases(first.type))
+    if last.type != first.type or any(not own <= set(faulted_phases(iv.type))
+                                       for iv in out[1:-1]):
+        return out
+    if last.start_s - out[1].start_s > POLE_SCATTER_CYCLES * cycle_s:
+        return out
+    ratio = fed_from_one_end(last.i_fault, last.v_fault, first.type, first.i_fault)
+    if ratio is None:
+        return out
+    flags.append(f"fault at {first.start_s:.4f} s: the other end opened first, at about "
+                 f"{out[1].start_s:.4f} s; the {', '.join(iv.type for iv in out[1:-1])} "
+                 f"seen until {last.start_s:.4f} s was its poles opening one by one, not an "
+                 f"evolving fault")
+    stage = RemoteOpenStage(change_s=out[1].start_s, window=last.fault, i=last.i_fault,
+                            v=last.v_fault, healthy_ratio=ratio)
+    return [dataclasses.replace(first, end_s=last.end_s, end_index=last.end_index,
+                                cleared_by_poles=last.cleared_by_poles, remote_open=stage)]
 
 
 def remote_open_stage(t, v, i, n: int, fs: float, k_steady: int, stop: int, fault_type: str,
-                      *, i_before=None, cycle_samples: float | None = None
-                      ) -> RemoteOpenStage | None:
+                      *, i_before=None, tau_s: float | None = None,
+                      cycle_samples: float | None = None) -> RemoteOpenStage | None:
     """The stage after the other end opened first, or None (see :class:`RemoteOpenStage`).
 
     Parameters
@@ -1030,6 +1076,10 @@ def remote_open_stage(t, v, i, n: int, fs: float, k_steady: int, stop: int, faul
         :data:`REMOTE_OPEN_HEALTHY_DROP` of theirs, so a fault that changed
         (its faulted-phase current grew, the load stayed) is not taken for the
         other end's opening.
+    tau_s : float, optional
+        Offset time constant of the fault [s]: the state the currents and the
+        voltages are carried forward in decays with it (one cycle alone does not
+        tell a time constant well enough to carry a voltage's offset forward).
     cycle_samples : float, optional
         Tracked samples per cycle (see :func:`fault_window_current`).
     """
@@ -1037,11 +1087,24 @@ def remote_open_stage(t, v, i, n: int, fs: float, k_steady: int, stop: int, faul
     healthy = [p for p in range(3) if p not in ph]
     if not healthy or not ph:
         return None
-    ks = [k for k in (departure(i, k_steady, stop, n), departure(v, k_steady, stop, n))
-          if k is not None]
-    if not ks:
+    # the currents' departure; the voltages' only where the currents show none (the
+    # voltages' first-cycle state carries the fault transient less well: on a
+    # simulated close-in B-G fault they departed 0.04 s before the far end opened)
+    tau_n = None if tau_s is None else tau_s * fs
+    k_change = departure(i, k_steady, stop, n, tau_n)
+    if k_change is None:
+        k_change = departure(v, k_steady, stop, n, tau_n)
+    if k_change is None:
         return None
-    k_change = min(ks)
+    # the last change before this end's poles open: a state that departs again
+    # within what follows was not yet the one fed from this end alone (the first
+    # departure can come early, from the transient; on a random simulated A-G
+    # event 27 ms before the far end opened, and a window there mixed both states)
+    for _ in range(STAGE_MAX_CHANGES):
+        later = departure(i, int(k_change) + n, stop, n, tau_n)
+        if later is None:
+            break
+        k_change = later
     start = int(k_change) + n          # the other end's three poles and the filters settle
     end = min(int(stop) - n // 8, start + 3 * n) - 1
     if end - start + 1 < n or end >= t.size:
@@ -1049,23 +1112,61 @@ def remote_open_stage(t, v, i, n: int, fs: float, k_steady: int, stop: int, faul
     length = end - start + 1
     wi = fault_window_current(i, end, n, fs, None, length, cycle_samples=cycle_samples)
     wv = fault_window_current(v, end, n, fs, None, length, cycle_samples=cycle_samples)
-    mag = np.abs(wi.phasor)
+    ratio = fed_from_one_end(wi.phasor, wv.phasor, fault_type, i_before)
+    if ratio is None:
+        return None
+    return RemoteOpenStage(change_s=float(t[int(k_change)]),
+                           window=Window(start, end, float(t[start]), float(t[end])),
+                           i=_ro(wi.phasor), v=_ro(wv.phasor), healthy_ratio=ratio)
+
+
+def fed_from_one_end(i_abc, v_abc, fault_type: str, i_before=None) -> float | None:
+    """The unfaulted-phase ratio if these phasors show the fault fed from this end alone.
+
+    Parameters
+    ----------
+    i_abc, v_abc : complex arrays (3,)
+        Phasors of the stage [A], [V].
+    fault_type : str
+    i_before : complex array (3,), optional
+        Currents of the fault with both ends closed [A].
+
+    Returns
+    -------
+    float or None
+        Largest unfaulted-phase current over the smallest faulted-phase current,
+        when it is at most :data:`REMOTE_OPEN_HEALTHY_RATIO` and the unfaulted
+        phases carry line charging only: their largest current fell to
+        :data:`REMOTE_OPEN_HEALTHY_DROP` of ``i_before``'s, or every one of them
+        leads its own phase voltage by 90 +/- 45 degrees (capacitive: a line
+        with little load before the fault); else None.  Three-phase faults:
+        None always.
+    """
+    ph = list(faulted_phases(fault_type))
+    healthy = [p for p in range(3) if p not in ph]
+    if not healthy or not ph:
+        return None
+    i_abc = np.asarray(i_abc)
+    v_abc = np.asarray(v_abc)
+    mag = np.abs(i_abc)
     smallest = float(mag[ph].min())
     if not smallest > 0:
         return None
     ratio = float(mag[healthy].max()) / smallest
     if ratio > REMOTE_OPEN_HEALTHY_RATIO:
         return None
-    if i_before is not None:
-        # the unfaulted phases lose their load and their share of the fault current
-        # when the other end opens; a fault that changes (an arc's resistance, say)
-        # leaves them with their load
-        mb = np.abs(np.asarray(i_before))
-        if float(mag[healthy].max()) > REMOTE_OPEN_HEALTHY_DROP * float(mb[healthy].max()):
-            return None
-    return RemoteOpenStage(change_s=float(t[int(k_change)]),
-                           window=Window(start, end, float(t[start]), float(t[end])),
-                           i=_ro(wi.phasor), v=_ro(wv.phasor), healthy_ratio=ratio)
+    if i_before is None:
+        return ratio
+    # the unfaulted phases lose their load and their share of the fault current
+    # when the other end opens; a fault that changes (an arc's resistance, say)
+    # leaves them with their load
+    mb = np.abs(np.asarray(i_before))
+    if float(mag[healthy].max()) <= REMOTE_OPEN_HEALTHY_DROP * float(mb[healthy].max()):
+        return ratio
+    lead = np.degrees(np.angle(i_abc[healthy] / np.where(v_abc[healthy] == 0, 1, v_abc[healthy])))
+    if np.all(np.abs(v_abc[healthy]) > 0) and np.all(np.abs(lead - 90.0) <= 45.0):
+        return ratio
+    return None
 
 
 def _onset_time(t, k: int) -> float:

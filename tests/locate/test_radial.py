@@ -201,3 +201,28 @@ def test_fit_with_the_stage_and_z0_off_keeps_the_truth_in_its_interval(weak_remo
     d_true = 0.93 * weak_remote.line("VM-CR1").length_km
     assert rep.interval_km[0] <= d_true <= rep.interval_km[1]
     assert "line Z0" not in rep.uncertainty_km        # fitted, not held
+
+
+def test_far_poles_opening_one_by_one_is_not_an_evolving_fault(weak_remote):
+    # a B-C fault while the far breaker's poles open at their own current zeros
+    # briefly looks like B-C-G from this end; then it is B-C again, fed from this
+    # end alone: one fault interval with that stage, not an evolution B-C -> B-C-G -> B-C
+    spec = SimulationSpec(line="VM-CR1", fraction=0.547, type="BC", r_fault_ohm=0.1,
+                          inception_s=0.1, inception_angle_deg=200.0, relay_time_s=0.337,
+                          clear_after_s=0.37, remote_delay_s=0.019 - 0.337, duration_s=0.58,
+                          samples_per_cycle=48, noise=0.002, seed=5,
+                          anti_alias_hz=0.3 * 48 * 60.0)
+    sim = simulate(weak_remote, spec)
+    rec = sim.records["VELLMOOR-VM-CR1"]
+    tl = analyze([rec]).terminals[0].timeline
+    assert [iv.type for iv in tl.intervals] == ["BC"]
+    assert any("poles opening one by one" in f for f in tl.flags)
+    stage = tl.intervals[0].remote_open
+    assert stage is not None and stage.window.start_s > max(
+        sim.truth.pole_open_s["CARDON_REACH-VM-CR1"][0])
+    end = from_fault_interval(tl.intervals[0], station=rec.station, frequency_hz=60.0,
+                              record_start=rec.start, time0_s=float(rec.time[0]),
+                              samples_per_cycle=48)
+    est = radial_stage(end, line_from(weak_remote, "VM-CR1",
+                                      weak_remote.terminal("VELLMOOR-VM-CR1")))
+    assert abs(est.distance_km - 0.547 * 96.4) < 0.001 * 96.4
