@@ -33,6 +33,7 @@ reactance method on the same phasors as the baseline.
 from __future__ import annotations
 
 import argparse
+import dataclasses
 import sys
 import time
 from pathlib import Path
@@ -54,32 +55,34 @@ RATES = (16, 20, 24, 32, 48, 64, 96, 128, 256)
 
 
 def draw(rng, base, sequential: bool = False):
-    """One random event: (truth model, SimulationSpec)."""
+    """One random event: (truth model, SimulationSpec).
+
+    The draws for ``sequential`` come after all the others, so the events
+    without it stay those of earlier runs with the same seed.
+    """
     code = FAULT_TYPES[rng.integers(len(FAULT_TYPES))]
     two_phase_ground = len(code) == 3 and code != "ABC"
     relay = float(rng.uniform(0.015, 0.04))
-    far_relay = float(rng.uniform(0.015, 0.04))
-    zone2 = float(rng.uniform(0.10, 0.35))
     truth = with_source(base, "CARDON_REACH", z_scale=float(np.exp(rng.uniform(-0.7, 1.4))),
                         angle_deg=float(rng.uniform(-20.0, 20.0)))
     truth = with_source(truth, "VELLMOOR", z_scale=float(np.exp(rng.uniform(-0.5, 0.7))))
     spc = int(rng.choice(RATES))
     f_hz = base.system.frequency_hz
-    breaker = float(rng.uniform(0.025, 0.05))
-    if sequential:
-        timing = dict(relay_time_s=zone2, clear_after_s=zone2 + breaker,
-                      remote_delay_s=far_relay - zone2, duration_s=0.1 + zone2 + breaker + 0.1)
-    else:
-        timing = dict(relay_time_s=relay, clear_after_s=float(rng.uniform(0.04, 0.09)),
-                      remote_delay_s=max(float(rng.uniform(-0.02, 0.02)), 0.002 - relay),
-                      duration_s=0.3)
     spec = SimulationSpec(
         line=LINE, fraction=float(rng.uniform(0.03, 0.97)), type=code,
         r_fault_ohm=float(rng.uniform(0, 40) if involves_ground(code) else rng.uniform(0, 5)),
         r_ground_ohm=float(rng.uniform(0, 5)) if two_phase_ground else 0.0,
-        inception_s=0.1, inception_angle_deg=float(rng.uniform(0, 360)), samples_per_cycle=spc,
+        inception_s=0.1, inception_angle_deg=float(rng.uniform(0, 360)), relay_time_s=relay,
+        clear_after_s=float(rng.uniform(0.04, 0.09)), duration_s=0.3, samples_per_cycle=spc,
         noise=0.002, seed=int(rng.integers(1 << 16)), anti_alias_hz=AA_FRACTION * spc * f_hz,
-        **timing)
+        remote_delay_s=max(float(rng.uniform(-0.02, 0.02)), 0.002 - relay))
+    if sequential:
+        # the far end trips in zone 1 (the relay time drawn above), VELLMOOR in zone 2
+        zone2 = float(rng.uniform(0.10, 0.35))
+        breaker = float(rng.uniform(0.025, 0.05))
+        spec = dataclasses.replace(spec, relay_time_s=zone2, clear_after_s=zone2 + breaker,
+                                   remote_delay_s=relay - zone2,
+                                   duration_s=spec.inception_s + zone2 + breaker + 0.1)
     return truth, spec
 
 
