@@ -74,6 +74,10 @@ class TerminalPhasors:
         on the same reference instant as the others; None when there was none.
     remote_open_start_s : float, optional
         Record time that stage's window starts [s].
+    remote_open_change_s : float, optional
+        Record time the currents changed when the other end opened [s].
+    window_end_s : float, optional
+        Record time the fault window ends [s] (with ``window_start_s``).
     """
 
     terminal_id: str | None
@@ -94,6 +98,8 @@ class TerminalPhasors:
     v_remote_open: np.ndarray | None = field(default=None, compare=False)
     i_remote_open: np.ndarray | None = field(default=None, compare=False)
     remote_open_start_s: float | None = field(default=None, compare=False)
+    remote_open_change_s: float | None = field(default=None, compare=False)
+    window_end_s: float | None = field(default=None, compare=False)
 
     def __post_init__(self) -> None:
         for name in ("v_pre", "i_pre", "v_fault", "i_fault"):
@@ -118,6 +124,20 @@ class TerminalPhasors:
         if not (f > 0 and np.isfinite(f)):
             raise SignalError(f"TerminalPhasors.frequency_hz: expected a positive frequency, got {f}")
         object.__setattr__(self, "frequency_hz", f)
+
+    @property
+    def window_holds_remote_opening(self) -> bool:
+        """True when the other end opened before the fault window ended.
+
+        Then the window mixes the fault fed from both ends with the fault fed
+        from this end alone (the other end opened within about two cycles of
+        inception), and methods on it are not to be trusted; the stage after
+        the opening (``v_remote_open``) is.  A quarter cycle of margin: the
+        change is found a little after it happened.
+        """
+        if self.remote_open_change_s is None or self.window_end_s is None:
+            return False
+        return self.remote_open_change_s <= self.window_end_s + 0.25 / self.frequency_hz
 
     @property
     def omega(self) -> float:
@@ -193,8 +213,10 @@ def from_fault_interval(interval, *, station: str, frequency_hz: float,
         record_start=record_start, samples_per_cycle=samples_per_cycle,
         i_parallel_residual=i_parallel_residual,
         window_start_s=float(interval.fault.start_s),
+        window_end_s=float(interval.fault.end_s),
         i_suspect=tuple(bool(x) for x in saturating_phases(interval.i_fault, distortion))
         if distortion is not None else (False, False, False),
         v_remote_open=None if stage is None else stage.v,
         i_remote_open=None if stage is None else stage.i,
-        remote_open_start_s=None if stage is None else float(stage.window.start_s))
+        remote_open_start_s=None if stage is None else float(stage.window.start_s),
+        remote_open_change_s=None if stage is None else float(stage.change_s))

@@ -1021,29 +1021,45 @@ def _merge_pole_scatter(out: list[FaultInterval], cycle_s: float,
 
     While the far breaker's poles open at their own current zeros the near
     end briefly sees another type (B-C looks like B-C-G while one far pole
-    is open); when the fault is then of its first type again, fed from this
-    end alone (:func:`fed_from_one_end`), the stages are one fault whose
-    last part is its :class:`RemoteOpenStage`.
+    is open).  When the fault then settles, fed from this end alone
+    (:func:`fed_from_one_end`), into a type whose phases every earlier stage
+    holds, the stages are one fault of that type whose last part is its
+    :class:`RemoteOpenStage`: B-C, B-C-G, B-C within
+    :data:`POLE_SCATTER_CYCLES` of the first change, or B-C-G, B-C when the
+    far end opened within the first fault window (the first stage then ends
+    within that many cycles plus two of inception).
     """
-    if len(out) < 3 or out[0].kind != "fault":
+    if len(out) < 2 or out[0].kind != "fault":
         return out
     first, last = out[0], out[-1]
-    own = set(faulted_phases(first.type))
-    if last.type != first.type or any(not own <= set(faulted_phases(iv.type))
-                                       for iv in out[1:-1]):
+    own = set(faulted_phases(last.type))
+    if any(not own <= set(faulted_phases(iv.type)) for iv in out[:-1]):
         return out
-    if last.start_s - out[1].start_s > POLE_SCATTER_CYCLES * cycle_s:
+    if first.type == last.type:
+        if len(out) < 3 or last.start_s - out[1].start_s > POLE_SCATTER_CYCLES * cycle_s:
+            return out
+    elif last.start_s - first.start_s > (POLE_SCATTER_CYCLES + 2.0) * cycle_s:
         return out
-    ratio = fed_from_one_end(last.i_fault, last.v_fault, first.type, first.i_fault)
+    ratio = fed_from_one_end(last.i_fault, last.v_fault, last.type, first.i_fault)
     if ratio is None:
         return out
-    flags.append(f"fault at {first.start_s:.4f} s: the other end opened first, at about "
-                 f"{out[1].start_s:.4f} s; the {', '.join(iv.type for iv in out[1:-1])} "
-                 f"seen until {last.start_s:.4f} s was its poles opening one by one, not an "
-                 f"evolving fault")
+    seen = out[1:-1] if first.type == last.type else out[:-1]
+    # the onsets of the stages merged were not an evolving fault's
+    for f in [f for f in flags if f.startswith("evolving fault near ")]:
+        try:
+            at = float(f.split()[3])
+        except (IndexError, ValueError):
+            continue
+        if first.start_s <= at <= last.start_s + cycle_s:
+            flags.remove(f)
+    flags.append(f"fault at {first.start_s:.4f} s: the other end opened first, by about "
+                 f"{out[1].start_s:.4f} s; the {', '.join(iv.type for iv in seen)} seen until "
+                 f"{last.start_s:.4f} s was its poles opening one by one, not an evolving "
+                 f"fault")
     stage = RemoteOpenStage(change_s=out[1].start_s, window=last.fault, i=last.i_fault,
                             v=last.v_fault, healthy_ratio=ratio)
-    return [dataclasses.replace(first, end_s=last.end_s, end_index=last.end_index,
+    return [dataclasses.replace(first, type=last.type, classification=last.classification,
+                                end_s=last.end_s, end_index=last.end_index,
                                 cleared_by_poles=last.cleared_by_poles, remote_open=stage)]
 
 

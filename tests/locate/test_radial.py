@@ -226,3 +226,34 @@ def test_far_poles_opening_one_by_one_is_not_an_evolving_fault(weak_remote):
     est = radial_stage(end, line_from(weak_remote, "VM-CR1",
                                       weak_remote.terminal("VELLMOOR-VM-CR1")))
     assert abs(est.distance_km - 0.547 * 96.4) < 0.001 * 96.4
+
+
+@pytest.mark.parametrize("code,fraction,rf", [("AG", 0.8, 20.0), ("BC", 0.7, 2.0),
+                                              ("CG", 0.3, 30.0)])
+def test_far_end_opening_within_the_fault_window(code, fraction, rf):
+    # the far end trips at once and opens 20 ms after inception (inside this end's
+    # first fault window), this end in zone 2: methods on the fault window read up to
+    # 20 % of the line off here, the stage fed from this end alone does not.  A B-C
+    # fault is seen as B-C-G while the far poles open: still one B-C fault.
+    truth = with_source(load_model(NORTHMARCH), "CARDON_REACH", z_scale=2.0)
+    spec = SimulationSpec(line="VM-CR1", fraction=fraction, type=code, r_fault_ohm=rf,
+                          inception_s=0.1, relay_time_s=0.3, clear_after_s=0.32,
+                          remote_delay_s=-0.3, duration_s=0.55, samples_per_cycle=64,
+                          noise=0.001, seed=3)
+    sim = simulate(truth, spec)
+    recs = [sim.records[t.id] for t in truth.terminals_of_line("VM-CR1")]
+    an = analyze(recs)
+    iv = an.terminals[0].timeline.intervals
+    assert [x.type for x in iv] == [code] and iv[0].remote_open is not None
+    ends = [from_fault_interval(t.timeline.intervals[0], station=recs[t.record].station,
+                                frequency_hz=60.0, record_start=recs[t.record].start,
+                                time0_s=float(recs[t.record].time[0]), samples_per_cycle=64)
+            for t in an.terminals]
+    assert ends[0].window_holds_remote_opening
+    length = truth.line("VM-CR1").length_km
+    for use in (ends[:1], ends):
+        rep = locate_event(truth, use, line="VM-CR1")
+        assert rep.best.method == "radial_stage"
+        assert abs(rep.distance_km - fraction * length) < 0.001 * length
+        assert rep.interval_km[0] <= fraction * length <= rep.interval_km[1]
+        assert any("opened within the fault window" in n for n in rep.notes)
