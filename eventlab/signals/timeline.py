@@ -1080,8 +1080,9 @@ def remote_open_stage(t, v, i, n: int, fs: float, k_steady: int, stop: int, faul
         Sample rate [Hz].
     k_steady : int
         First sample of the fault's steady part (both ends closed): the change
-        is the first departure of the currents or the voltages from the state
-        of the cycle that begins there (:func:`departure`), before ``stop``.
+        is the currents' (else the voltages') departure from the state of the
+        cycle that begins there (:func:`departure`), followed to the last one
+        before ``stop``.
     stop : int
         First sample with a pole of this end open (or the end of the fault).
     fault_type : str
