@@ -374,6 +374,11 @@ def locate_event(model: NetworkModel, ends: Sequence[TerminalPhasors], line: str
     if mixed and radial is not None:
         fit_ok = False
         two = None
+        if comparison is not None:
+            comparison = replace(comparison, verdicts=(
+                f"the fault window of {', '.join(mixed)} holds the other end's opening: its "
+                f"measured phasors mix two states, so this table does not judge the model",)
+                + tuple(comparison.verdicts))
     elif fit is not None and two is not None and fit.chi2_scale > opts.max_fit_residual_scale:
         notes.append(f"model fit residual {fit.chi2_scale:.1f} times the measurement accuracy "
                      f"(more than {opts.max_fit_residual_scale:g}): the model does not match "

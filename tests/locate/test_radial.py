@@ -257,3 +257,4 @@ def test_far_end_opening_within_the_fault_window(code, fraction, rf):
         assert abs(rep.distance_km - fraction * length) < 0.001 * length
         assert rep.interval_km[0] <= fraction * length <= rep.interval_km[1]
         assert any("opened within the fault window" in n for n in rep.notes)
+        assert "does not judge the model" in rep.comparison.verdicts[0]
