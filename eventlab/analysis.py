@@ -776,6 +776,12 @@ def analyze(records: Sequence[Record] | Record, model=None, line: str | None = N
             found = map_terminals(rec, cmap)
         f_first, tracked_any = None, False
         for term in found:
+            odd = [f"{c.name} ({c.unit!r})" for c in (*term.voltages, *term.currents)
+                   if c.unit not in ("V", "A")]
+            if odd:
+                warnings.append(f"record {k}: unit of {', '.join(odd)} is not one eventlab "
+                                f"reads as a voltage or a current (V, kV, A, kA ...); the "
+                                f"values are taken as V and A unscaled")
             ta, f_est, tracked = _terminal(rec, k, term, n, fs, opts, warnings)
             terms.append(ta)
             if f_first is None:

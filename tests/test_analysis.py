@@ -628,3 +628,14 @@ def test_signals_off_the_lf_frequency_are_warned_and_not_located_from():
     assert any("lf field says 50 Hz" in w for w in a.warnings)
     assert a.location is None
     assert any("not made" in w and "60.00 Hz" in w for w in a.warnings)
+
+
+def test_an_unknown_unit_on_a_phase_channel_is_warned():
+    e = fw.fault_event("AG", 0.0507)
+    rec = record_of(e)
+    import dataclasses
+    odd = dataclasses.replace(rec, analog=tuple(
+        dataclasses.replace(ch, unit="pu") if ch.name == "IB" else ch for ch in rec.analog))
+    a = analyze(odd, options=None)
+    assert any("IB ('pu')" in w for w in a.warnings)
+    assert not any("('" in w for w in analyze(rec).warnings)
