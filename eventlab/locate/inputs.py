@@ -76,6 +76,9 @@ class TerminalPhasors:
         Record time that stage's window starts [s].
     remote_open_change_s : float, optional
         Record time the currents changed when the other end opened [s].
+    remote_open_in_window : bool
+        The other end opened inside the fault window
+        (:attr:`eventlab.signals.timeline.RemoteOpenStage.in_fault_window`).
     window_end_s : float, optional
         Record time the fault window ends [s] (with ``window_start_s``).
     """
@@ -99,6 +102,7 @@ class TerminalPhasors:
     i_remote_open: np.ndarray | None = field(default=None, compare=False)
     remote_open_start_s: float | None = field(default=None, compare=False)
     remote_open_change_s: float | None = field(default=None, compare=False)
+    remote_open_in_window: bool = field(default=False, compare=False)
     window_end_s: float | None = field(default=None, compare=False)
 
     def __post_init__(self) -> None:
@@ -127,17 +131,14 @@ class TerminalPhasors:
 
     @property
     def window_holds_remote_opening(self) -> bool:
-        """True when the other end opened before the fault window ended.
+        """True when the other end opened inside the fault window.
 
         Then the window mixes the fault fed from both ends with the fault fed
         from this end alone (the other end opened within about two cycles of
         inception), and methods on it are not to be trusted; the stage after
-        the opening (``v_remote_open``) is.  A quarter cycle of margin: the
-        change is found a little after it happened.
+        the opening (``v_remote_open``) is.
         """
-        if self.remote_open_change_s is None or self.window_end_s is None:
-            return False
-        return self.remote_open_change_s <= self.window_end_s + 0.25 / self.frequency_hz
+        return bool(self.remote_open_in_window and self.i_remote_open is not None)
 
     @property
     def omega(self) -> float:
@@ -219,4 +220,5 @@ def from_fault_interval(interval, *, station: str, frequency_hz: float,
         v_remote_open=None if stage is None else stage.v,
         i_remote_open=None if stage is None else stage.i,
         remote_open_start_s=None if stage is None else float(stage.window.start_s),
-        remote_open_change_s=None if stage is None else float(stage.change_s))
+        remote_open_change_s=None if stage is None else float(stage.change_s),
+        remote_open_in_window=False if stage is None else bool(stage.in_fault_window))

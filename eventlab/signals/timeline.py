@@ -113,6 +113,10 @@ class RemoteOpenStage:
     healthy_ratio : float
         Largest unfaulted-phase current over the smallest faulted-phase
         current in ``window``.
+    in_fault_window : bool
+        The other end opened inside the fault window's first cycle (within
+        about two cycles of inception): that window then mixes the fault fed
+        from both ends with the fault fed from this end alone.
     """
 
     change_s: float
@@ -120,10 +124,11 @@ class RemoteOpenStage:
     i: np.ndarray = field(repr=False, compare=False)
     v: np.ndarray = field(repr=False, compare=False)
     healthy_ratio: float = 0.0
+    in_fault_window: bool = False
 
     def to_dict(self) -> dict:
         return {"change_s": self.change_s, "window": self.window.to_dict(),
-                "healthy_ratio": self.healthy_ratio,
+                "healthy_ratio": self.healthy_ratio, "in_fault_window": self.in_fault_window,
                 "currents": [[float(abs(x)), float(np.degrees(np.angle(x)))] for x in self.i],
                 "voltages": [[float(abs(x)), float(np.degrees(np.angle(x)))] for x in self.v]}
 
@@ -1056,8 +1061,12 @@ def _merge_pole_scatter(out: list[FaultInterval], cycle_s: float,
                  f"{out[1].start_s:.4f} s; the {', '.join(iv.type for iv in seen)} seen until "
                  f"{last.start_s:.4f} s was its poles opening one by one, not an evolving "
                  f"fault")
+    # a first stage of another type saw the far poles opening in its window; one of
+    # the same type did if the scatter began within an eighth of a cycle of its end
+    in_window = (first.type != last.type
+                 or out[1].start_s <= first.fault.end_s + cycle_s / 8)
     stage = RemoteOpenStage(change_s=out[1].start_s, window=last.fault, i=last.i_fault,
-                            v=last.v_fault, healthy_ratio=ratio)
+                            v=last.v_fault, healthy_ratio=ratio, in_fault_window=in_window)
     return [dataclasses.replace(first, type=last.type, classification=last.classification,
                                 end_s=last.end_s, end_index=last.end_index,
                                 cleared_by_poles=last.cleared_by_poles, remote_open=stage)]
@@ -1113,6 +1122,9 @@ def remote_open_stage(t, v, i, n: int, fs: float, k_steady: int, stop: int, faul
         k_change = departure(v, k_steady, stop, n, tau_n)
     if k_change is None:
         return None
+    # a departure at once after the reference cycle: the change was inside that
+    # cycle, which is also the shortest fault window
+    in_window = int(k_change) <= k_steady + n + n // 8
     # the last change before this end's poles open: a state that departs again
     # within what follows was not yet the one fed from this end alone (the first
     # departure can come early, from the transient; on a random simulated A-G
@@ -1134,7 +1146,8 @@ def remote_open_stage(t, v, i, n: int, fs: float, k_steady: int, stop: int, faul
         return None
     return RemoteOpenStage(change_s=float(t[int(k_change)]),
                            window=Window(start, end, float(t[start]), float(t[end])),
-                           i=_ro(wi.phasor), v=_ro(wv.phasor), healthy_ratio=ratio)
+                           i=_ro(wi.phasor), v=_ro(wv.phasor), healthy_ratio=ratio,
+                           in_fault_window=in_window)
 
 
 def fed_from_one_end(i_abc, v_abc, fault_type: str, i_before=None) -> float | None:

@@ -258,3 +258,28 @@ def test_far_end_opening_within_the_fault_window(code, fraction, rf):
         assert rep.interval_km[0] <= fraction * length <= rep.interval_km[1]
         assert any("opened within the fault window" in n for n in rep.notes)
         assert "does not judge the model" in rep.comparison.verdicts[0]
+
+
+def test_a_window_cut_before_the_change_is_not_mixed():
+    # 50 Hz island line: ORRINSBY opens 70 ms after inception, HESKARD FEN 200 ms
+    # later.  HESKARD FEN's fault window ends an eighth of a cycle before the change,
+    # so it is clean: the two-ended fit stays the answer, the stage is listed
+    model = load_model(Path(__file__).resolve().parents[2] / "models" / "orrin_isle_110kv.toml")
+    spec = SimulationSpec(line="OR-HF1", fraction=0.6, type="BC", r_fault_ohm=2.0,
+                          inception_s=0.1, relay_time_s=0.03, clear_after_s=0.07,
+                          remote_delay_s=0.2, duration_s=0.5, samples_per_cycle=64,
+                          noise=0.001, seed=3, anti_alias_hz=0.3 * 64 * 50.0)
+    sim = simulate(model, spec)
+    recs = [sim.records[t.id] for t in model.terminals_of_line("OR-HF1")]
+    an = analyze(recs)
+    ends = [from_fault_interval(t.timeline.intervals[0], station=recs[t.record].station,
+                                frequency_hz=50.0, record_start=recs[t.record].start,
+                                time0_s=float(recs[t.record].time[0]), samples_per_cycle=64)
+            for t in an.terminals]
+    assert ends[1].i_remote_open is not None and not ends[1].window_holds_remote_opening
+    rep = locate_event(model, ends, line="OR-HF1")
+    length = model.line("OR-HF1").length_km
+    assert rep.best.method == "model_fit"
+    assert abs(rep.distance_km - 0.6 * length) < 0.005 * length
+    radial = next(m for m in rep.methods if m.method == "radial_stage")
+    assert abs(radial.distance_km - 0.6 * length) < 0.001 * length
