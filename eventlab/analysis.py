@@ -14,6 +14,7 @@ from __future__ import annotations
 
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field, replace
+from datetime import timedelta
 from types import MappingProxyType
 from typing import Any
 
@@ -856,6 +857,42 @@ def _missed_inception(ends) -> int | None:
 DEAD_VT_RATIO = 0.8
 
 
+#: a three-phase fault's change at one end and the other end's first pole opening
+#: (both records' clocks) at most this many cycles apart make the change that opening
+STAGE_CONFIRM_CYCLES = 1.5
+
+
+def _confirmed_stage(end, mine: tuple, other: tuple, warnings: list[str]):
+    """``end`` with its stage fed from one end, where the other record confirms it.
+
+    A three-phase fault's record cannot tell the other end's opening from a
+    change of the fault (:class:`~eventlab.signals.timeline.RemoteOpenStage`
+    ``confirmed`` False); the other end's record can: its first pole opening,
+    in absolute time, within :data:`STAGE_CONFIRM_CYCLES` of the change.
+    """
+    rec, ta = mine
+    orec, ota = other
+    stage = ta.timeline.intervals[0].remote_open if ta.timeline.intervals else None
+    if stage is None or stage.confirmed or rec.start is None or orec.start is None:
+        return end
+    opened = [s for s in ota.timeline.pole_open_s if s is not None]
+    if not opened:
+        return end
+    far = orec.start + timedelta(seconds=min(opened))
+    here = rec.start + timedelta(seconds=stage.change_s)
+    dt = (here - far).total_seconds()
+    if abs(dt) > STAGE_CONFIRM_CYCLES / rec.frequency_hz:
+        return end
+    warnings.append(f"location: {rec.station}'s currents changed at {stage.change_s:.4f} s, "
+                    f"{1e3 * dt:+.1f} ms from {orec.station}'s first pole opening (both "
+                    f"records' clocks): the fault was then fed from {rec.station} alone, and "
+                    f"that stage locates it")
+    return replace(end, v_remote_open=stage.v, i_remote_open=stage.i,
+                   remote_open_start_s=float(stage.window.start_s),
+                   remote_open_change_s=float(stage.change_s),
+                   remote_open_in_window=bool(stage.in_fault_window))
+
+
 #: pre-fault |V1| outside this range of the model bus's nominal phase voltage: the
 #: record's scaling (ratios, the P/S flag, units) or the model does not fit, and a
 #: location from it would be off by the same factor as its impedances
@@ -921,6 +958,7 @@ def _locate(records: Sequence[Record], terms: Sequence[TerminalAnalysis], model,
     ends = []
     kvs: list[float | None] = []     # nominal kV of each end's bus in the model
     known: list[str | None] = []     # a reason found before the phasors (frequency)
+    sources: list[tuple[Record, TerminalAnalysis]] = []   # each end's record and terminal
     for k, rec in enumerate(records):
         ta = next((t for t in terms if t.record == k and t.timeline.intervals), None)
         if ta is None:
@@ -932,6 +970,7 @@ def _locate(records: Sequence[Record], terms: Sequence[TerminalAnalysis], model,
         except ModelError:
             kvs.append(None)
         known.append((off_freq or {}).get(k))
+        sources.append((rec, ta))
         ip_name = ta.channels.get("IP")
         i_par = ta.fault.get(ip_name) if ip_name is not None else None
         ends.append(from_fault_interval(
@@ -944,7 +983,19 @@ def _locate(records: Sequence[Record], terms: Sequence[TerminalAnalysis], model,
         return None
     if len(ends) > 2:
         warnings.append(f"location: {len(ends)} faulted records; the first two are used")
-        ends, kvs, known = ends[:2], kvs[:2], known[:2]
+        ends, kvs, known, sources = ends[:2], kvs[:2], known[:2], sources[:2]
+    if len(ends) == 2:
+        ends = [_confirmed_stage(ends[k], sources[k], sources[1 - k], warnings)
+                for k in range(2)]
+    for e, (rec, ta) in zip(ends, sources, strict=True):
+        stage = ta.timeline.intervals[0].remote_open
+        if (stage is not None and not stage.confirmed and stage.in_fault_window
+                and e.i_remote_open is None):
+            warnings.append(f"location: {rec.station}'s currents changed at "
+                            f"{stage.change_s:.4f} s, inside its fault window: that window may "
+                            f"mix two states (the other end opening, or the fault changing; a "
+                            f"three-phase fault does not say which) and the location from it "
+                            f"may be off; the other end's record would tell")
     unusable = [why or _unusable(e, kv) for e, kv, why in zip(ends, kvs, known, strict=True)]
     if all(unusable):
         warnings.append("location: not made: " + "; ".join(

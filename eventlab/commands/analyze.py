@@ -131,11 +131,15 @@ def _terminal_text(t: TerminalAnalysis, f0: float) -> list[str]:
                    f".. {_ms(iv.fault.end_s).strip()}" + (" (flagged)" if iv.fault.flagged
                                                           else ""))
     ro = tl.intervals[-1].remote_open
-    if ro is not None:
+    if ro is not None and ro.confirmed:
         out.append(f"    Other end  : opened first, currents changed at {_ms(ro.change_s).strip()}; "
                    f"fed from this end alone over {_ms(ro.window.start_s).strip()} .. "
                    f"{_ms(ro.window.end_s).strip()} (unfaulted phases "
                    f"{100 * ro.healthy_ratio:.1f} % of the faulted)")
+    elif ro is not None:
+        out.append(f"    Change     : currents changed at {_ms(ro.change_s).strip()}, before this "
+                   f"end's poles opened (the other end opening, or the fault changing: a "
+                   f"three-phase fault does not say which)")
     out.append("    Currents [A primary]      pre-fault             fault window      peak")
     roles = dict(t.channels)
     for p in "ABC":

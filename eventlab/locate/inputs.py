@@ -205,6 +205,8 @@ def from_fault_interval(interval, *, station: str, frequency_hz: float,
     """
     distortion = getattr(interval, "i_distortion", None)
     stage = getattr(interval, "remote_open", None)
+    if stage is not None and not getattr(stage, "confirmed", True):
+        stage = None          # a three-phase fault's change: not known to be the far end
     return TerminalPhasors(
         terminal_id=terminal_id, station=station,
         v_pre=interval.v_prefault, i_pre=interval.i_prefault,

@@ -117,6 +117,11 @@ class RemoteOpenStage:
         The other end opened inside the fault window's first cycle (within
         about two cycles of inception): that window then mixes the fault fed
         from both ends with the fault fed from this end alone.
+    confirmed : bool
+        False for a three-phase fault: the record shows a change before this
+        end's poles opened but cannot show it was the other end's opening;
+        the other end's record can (its poles' opening times, see
+        :func:`eventlab.analysis.analyze`).
     """
 
     change_s: float
@@ -125,10 +130,12 @@ class RemoteOpenStage:
     v: np.ndarray = field(repr=False, compare=False)
     healthy_ratio: float = 0.0
     in_fault_window: bool = False
+    confirmed: bool = True
 
     def to_dict(self) -> dict:
         return {"change_s": self.change_s, "window": self.window.to_dict(),
                 "healthy_ratio": self.healthy_ratio, "in_fault_window": self.in_fault_window,
+                "confirmed": self.confirmed,
                 "currents": [[float(abs(x)), float(np.degrees(np.angle(x)))] for x in self.i],
                 "voltages": [[float(abs(x)), float(np.degrees(np.angle(x)))] for x in self.v]}
 
@@ -1110,8 +1117,7 @@ def remote_open_stage(t, v, i, n: int, fs: float, k_steady: int, stop: int, faul
         Tracked samples per cycle (see :func:`fault_window_current`).
     """
     ph = list(faulted_phases(fault_type))
-    healthy = [p for p in range(3) if p not in ph]
-    if not healthy or not ph:
+    if not ph:
         return None
     # the currents' departure; the voltages' only where the currents show none (the
     # voltages' first-cycle state carries the fault transient less well: on a
@@ -1141,6 +1147,13 @@ def remote_open_stage(t, v, i, n: int, fs: float, k_steady: int, stop: int, faul
     length = end - start + 1
     wi = fault_window_current(i, end, n, fs, None, length, cycle_samples=cycle_samples)
     wv = fault_window_current(v, end, n, fs, None, length, cycle_samples=cycle_samples)
+    if len(ph) == 3:
+        # three-phase: nothing in this record tells the other end's opening from a
+        # change of the fault; the stage waits for the other record to confirm it
+        return RemoteOpenStage(change_s=float(t[int(k_change)]),
+                               window=Window(start, end, float(t[start]), float(t[end])),
+                               i=_ro(wi.phasor), v=_ro(wv.phasor), healthy_ratio=0.0,
+                               in_fault_window=in_window, confirmed=False)
     ratio = fed_from_one_end(wi.phasor, wv.phasor, fault_type, i_before)
     if ratio is None:
         return None

@@ -283,3 +283,26 @@ def test_a_window_cut_before_the_change_is_not_mixed():
     assert abs(rep.distance_km - 0.6 * length) < 0.005 * length
     radial = next(m for m in rep.methods if m.method == "radial_stage")
     assert abs(radial.distance_km - 0.6 * length) < 0.001 * length
+
+
+def test_three_phase_stage_needs_the_other_record():
+    # a three-phase fault cannot show the far end's opening from one end; the far
+    # record's first pole opening (same clock) confirms it.  Far end open 25 ms after
+    # inception, inside VELLMOOR's fault window: with both records the stage locates
+    truth = with_source(load_model(NORTHMARCH), "CARDON_REACH", z_scale=2.0)
+    spec = SimulationSpec(line="VM-CR1", fraction=0.436, type="ABC", r_fault_ohm=4.4,
+                          inception_s=0.1, relay_time_s=0.283, clear_after_s=0.283 + 0.025,
+                          remote_delay_s=-0.283, duration_s=0.6, samples_per_cycle=32,
+                          noise=0.001, seed=9, anti_alias_hz=0.3 * 32 * 60.0)
+    sim = simulate(truth, spec)
+    recs = [sim.records[t.id] for t in truth.terminals_of_line("VM-CR1")]
+    stage = analyze(recs[:1]).terminals[0].timeline.intervals[0].remote_open
+    assert stage is not None and not stage.confirmed
+    length = truth.line("VM-CR1").length_km
+    both = analyze(recs, model=truth, line="VM-CR1")
+    assert both.location.best.method == "radial_stage"
+    assert abs(both.location.distance_km - 0.436 * length) < 0.001 * length
+    assert any("first pole opening" in w for w in both.warnings)
+    alone = analyze(recs[:1], model=truth, line="VM-CR1")
+    assert alone.location.best.method != "radial_stage"
+    assert any("inside its fault window" in w for w in alone.warnings)
