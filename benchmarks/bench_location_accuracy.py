@@ -47,7 +47,7 @@ import numpy as np
 ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 
-from eventlab.analysis import analyze  # noqa: E402
+from eventlab.analysis import analyze, confirmed_stage  # noqa: E402
 from eventlab.faulttypes import FAULT_TYPES, involves_ground  # noqa: E402
 from eventlab.locate import locate_event  # noqa: E402
 from eventlab.locate.inputs import from_fault_interval  # noqa: E402
@@ -103,6 +103,13 @@ def case_model(base, infeed, load):
 
 
 def ends_of(records, model):
+    """Each end's phasors, as ``eventlab analyze`` gives them to the locators.
+
+    Returns ``(alone, together)``: the ends as one record alone gives them, and
+    as the two records together do (a three-phase fault's stage fed from one
+    end confirmed from the other record, :func:`eventlab.analysis.confirmed_stage`,
+    as the analysis does).
+    """
     recs = [records[t.id] for t in model.terminals_of_line(LINE)]
     an = analyze(recs)
     out = []
@@ -112,7 +119,11 @@ def ends_of(records, model):
             t.timeline.intervals[0], station=rec.station, frequency_hz=rec.frequency_hz,
             record_start=rec.start, time0_s=float(rec.time[0]),
             samples_per_cycle=an.records[t.record].samples_per_cycle))
-    return out
+    together = out
+    if len(out) == 2:
+        src = [(recs[t.record], t) for t in an.terminals]
+        together = [confirmed_stage(out[k], src[k], src[1 - k]) for k in range(2)]
+    return out, together
 
 
 def main(argv=None) -> int:
@@ -144,7 +155,7 @@ def main(argv=None) -> int:
                               remote_delay_s=args.remote_delay)
         sim = simulate(truth_model, spec)
         d_true = c["fraction"] * length
-        ends = ends_of(sim.records, truth_model)
+        ends, ends2 = ends_of(sim.records, truth_model)
         res = solve_fault(truth_model, FaultSpec(LINE, c["fraction"], c["code"], c["rf"]))
         t_local = truth_model.terminals_of_line(LINE)[0]
         exact = dataclasses.replace(phasors_from_solution(res, truth_model, t_local.id),
@@ -157,7 +168,7 @@ def main(argv=None) -> int:
             rep = locate_event(model, [exact], line=LINE)
             err = 100 * abs(rep.distance_km - d_true) / length
             errs.setdefault((label, "single-ended answer on solver phasors"), []).append(err)
-            for kind, use in (("single", ends[:1]), ("two", ends)):
+            for kind, use in (("single", ends[:1]), ("two", ends2)):
                 t0 = time.perf_counter()
                 rep = locate_event(model, use, line=LINE)
                 t_locate += time.perf_counter() - t0

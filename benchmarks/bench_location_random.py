@@ -112,9 +112,9 @@ def main(argv=None) -> int:
     t0 = time.perf_counter()
     for _ in range(args.n):
         truth, spec = draw(rng, base, args.sequential, args.far_fast)
-        ends = ends_of(simulate(truth, spec).records, truth)
+        ends, ends2 = ends_of(simulate(truth, spec).records, truth)
         d = spec.fraction * length
-        for kind, use in (("single", ends[:1]), ("two", ends)):
+        for kind, use in (("single", ends[:1]), ("two", ends2)):
             rep = locate_event(base, use, line=LINE)
             e = 100.0 * abs(rep.distance_km - d) / length
             err[kind].append(e)

@@ -862,8 +862,11 @@ DEAD_VT_RATIO = 0.8
 STAGE_CONFIRM_CYCLES = 1.5
 
 
-def _confirmed_stage(end, mine: tuple, other: tuple, warnings: list[str]):
+def confirmed_stage(end, mine: tuple, other: tuple, warnings: list[str] | None = None):
     """``end`` with its stage fed from one end, where the other record confirms it.
+
+    ``mine`` and ``other`` are ``(Record, TerminalAnalysis)`` of the end and of
+    the line's other end; ``warnings`` gets a line when the stage is confirmed.
 
     A three-phase fault's record cannot tell the other end's opening from a
     change of the fault (:class:`~eventlab.signals.timeline.RemoteOpenStage`
@@ -883,10 +886,11 @@ def _confirmed_stage(end, mine: tuple, other: tuple, warnings: list[str]):
     dt = (here - far).total_seconds()
     if abs(dt) > STAGE_CONFIRM_CYCLES / rec.frequency_hz:
         return end
-    warnings.append(f"location: {rec.station}'s currents changed at {stage.change_s:.4f} s, "
-                    f"{1e3 * dt:+.1f} ms from {orec.station}'s first pole opening (both "
-                    f"records' clocks): the fault was then fed from {rec.station} alone, and "
-                    f"that stage locates it")
+    (warnings if warnings is not None else []).append(
+        f"location: {rec.station}'s currents changed at {stage.change_s:.4f} s, "
+        f"{1e3 * dt:+.1f} ms from {orec.station}'s first pole opening (both records' "
+        f"clocks): the fault was then fed from {rec.station} alone, and that stage "
+        f"locates it")
     return replace(end, v_remote_open=stage.v, i_remote_open=stage.i,
                    remote_open_start_s=float(stage.window.start_s),
                    remote_open_change_s=float(stage.change_s),
@@ -985,7 +989,7 @@ def _locate(records: Sequence[Record], terms: Sequence[TerminalAnalysis], model,
         warnings.append(f"location: {len(ends)} faulted records; the first two are used")
         ends, kvs, known, sources = ends[:2], kvs[:2], known[:2], sources[:2]
     if len(ends) == 2:
-        ends = [_confirmed_stage(ends[k], sources[k], sources[1 - k], warnings)
+        ends = [confirmed_stage(ends[k], sources[k], sources[1 - k], warnings)
                 for k in range(2)]
     for e, (rec, ta) in zip(ends, sources, strict=True):
         stage = ta.timeline.intervals[0].remote_open
