@@ -141,6 +141,29 @@ def test_location_keys_with_model_on_sample_event(capsys, tmp_path):
         len(c["measured"]) == 2 and len(c["computed"]) == 2 for c in d["comparison"])
 
 
+def test_sequential_clearing_sample_text_and_json(capsys, tmp_path):
+    # the bundled sequential-clearing event (CARDON REACH in zone 1, VELLMOOR in
+    # zone 2): the text names the stage fed from one end, the JSON carries it and the
+    # radial_stage method, located from VELLMOOR's record alone
+    root = Path(__file__).parents[2]
+    ev = root / "sample_events" / "vm_cr1_sequential"
+    out = tmp_path / "s.json"
+    assert main(["analyze", str(ev / "VELLMOOR.cfg"), "--model",
+                 str(root / "models" / "northmarch_230kv.toml"), "--json", str(out)]) == 0
+    text = capsys.readouterr().out
+    assert "Other end  : opened first" in text and "radial_stage" in text
+    d = json.loads(out.read_text())
+    stage = d["timeline"]["intervals"][0]["remote_open"]
+    assert stage["confirmed"] and not stage["in_fault_window"]
+    truth = json.loads((ev / "truth.json").read_text())
+    assert stage["change_s"] == pytest.approx(
+        min(truth["pole_open_s"]["CARDON_REACH-VM-CR1"][0]), abs=1 / 60)
+    radial = next(m for m in d["location"]["methods"] if m["method"] == "radial_stage")
+    assert abs(radial["distance_km"] - truth["distance_km"]) < 0.2
+    assert d["location"]["model_fit"]["fault_resistance_open_ohm"] == pytest.approx(
+        truth["r_fault_ohm"], abs=0.5)
+
+
 def test_terminal_option_pairs_record_and_rejects_unknown_id(capsys):
     root = Path(__file__).parents[2]
     ev = root / "sample_events" / "vm_cr1_bg"
