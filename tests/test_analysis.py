@@ -639,3 +639,28 @@ def test_an_unknown_unit_on_a_phase_channel_is_warned():
     a = analyze(odd, options=None)
     assert any("IB ('pu')" in w for w in a.warnings)
     assert not any("('" in w for w in analyze(rec).warnings)
+
+
+@pytest.mark.parametrize("start_s, pre_cycles_note", [(0.09, False), (0.097, True)])
+def test_records_with_little_pre_fault_time_still_locate(start_s, pre_cycles_note):
+    # relays keep as little as one or two cycles before a fault: the bundled pair cut
+    # to start 1.45 and 1.03 cycles before its inception (0.1142 s).  The first had
+    # been timed 8 ms late with fault samples in its pre-fault window (22 km off);
+    # with barely a cycle no pre-fault window is taken at all
+    from eventlab.records.build import select
+
+    recs, truth, model = _sample_pair()
+    cut = [select(r, start_s=start_s) for r in recs]
+    length = model.line(truth["line"]).length_km
+    for one in cut:
+        a = analyze([one], model=model)
+        d = a.location.distance_km if one.station == "VELLMOOR" else length - \
+            a.location.distance_km
+        assert abs(d - truth["distance_km"]) <= 0.002 * length
+        # the timeline says the pre-fault time was short
+        flags = " ".join(a.terminals[0].timeline.flags)
+        assert ("no pre-fault window is taken" in flags or "no pre-fault cycle" in flags
+                or "less than two cycles before inception" in flags)
+    t = analyze([cut[0]]).terminals[0].timeline
+    if not pre_cycles_note:
+        assert abs(t.inception_s + start_s - truth["inception_s"]) <= 0.5e-3

@@ -748,13 +748,21 @@ def build_timeline(time_s, v_abc, i_abc, samples_per_cycle: int, *,
     edges = tuple(sorted(edges, key=lambda e: e.index))
 
     intervals: list[FaultInterval] = []
-    prev_end = n
+    prev_end = n           # end of the previous interval (none yet: unused)
     chans = np.vstack([d_v, d_i])
     raw = np.vstack([v, i])
     for a, b in runs:
         # search back up to two cycles from where the phasors saw the fault; the
-        # cycle before the search is the baseline (noise, off-nominal residual)
-        s0 = max(a - 2 * n, prev_end + n, 2 * n)
+        # cycle before the search is the baseline (noise, off-nominal residual).  A
+        # record with less than two cycles before the fault (relays keep as few)
+        # has a shorter baseline, at least a quarter cycle of superimposed samples
+        # (they begin one cycle into the record): the search had started at two
+        # cycles, and a fault 1.5 cycles into a record was timed 8 ms late, its
+        # pre-fault window holding fault samples (located 22 km off).  Records with
+        # three cycles or more before the phasors saw it keep a full-cycle baseline
+        # (off nominal frequency the superimposed samples need it)
+        floor = 2 * n if a >= 3 * n else n + max(n // 4, 2)
+        s0 = max(a - 2 * n, (prev_end + n) if intervals else 0, floor)
         search = (min(s0, a), a + 1)
         # baseline: the cycle before the search, at least 64 samples where the record
         # holds them (a MAD over 16 samples is too loose a noise estimate at 16 a cycle)
@@ -773,15 +781,26 @@ def build_timeline(time_s, v_abc, i_abc, samples_per_cycle: int, *,
                                samples=raw)
             k_on = int(np.ceil(pos))
             onset_s = float(t[k_on] - (k_on - pos) * dt)
+        # found at the first sample the search allows (the record's start): the fault
+        # may have begun earlier, within the first cycle, where the superimposed
+        # samples do not reach; every cycle before the onset found may hold it
+        # (the threshold detector can be late by a quarter cycle; half a cycle kept)
+        early = (intervals == [] and search[0] == n + max(n // 4, 2) and k_on > n
+                 and k_on <= search[0] + n // 2)
         if k_on <= n:
             flags.append("the record starts in a fault: no pre-fault cycle")
+        elif early:
+            flags.append(f"fault at {t[k_on]:.4f} s: found at the earliest sample the record "
+                         f"allows, give or take half a cycle (it starts less than two cycles "
+                         f"before); it may have "
+                         f"begun earlier, so no pre-fault window is taken")
         kind = "fault"
         if any(e.kind == "close" and prev_end - n <= e.index <= k_on + n // 4 for e in poles) \
                 and intervals:
             kind = "reclose"
         stages = _stages(t, v, i, v_ph, i_ph, n, fs, k_on, b, poles, kind, mitigate_offset,
                          tau_s, d_v, d_i, peak, flags, floors, onset_s,
-                         cycle_samples=cycle_samples)
+                         cycle_samples=cycle_samples, prefault_ok=not early)
         intervals.extend(stages)
         last = stages[-1]
         prev_end = (last.end_index if last.end_index is not None else b) + n // 2
@@ -858,11 +877,16 @@ def _classify_at(t, v, i, v_ph, i_ph, n, fs, k_pre_win, win: Window, tau_s, miti
 def _stages(t, v, i, v_ph, i_ph, n, fs, k_on, run_end, poles, kind, mitigate, tau_given,
             d_v, d_i, peak, flags, floors=(0.0, 0.0, 0.0),
             onset_s: float | None = None, *,
-            cycle_samples: float | None = None) -> list[FaultInterval]:
-    """The interval(s) of one disturbance: the fault and, if it evolves, its later stages."""
+            cycle_samples: float | None = None,
+            prefault_ok: bool = True) -> list[FaultInterval]:
+    """The interval(s) of one disturbance: the fault and, if it evolves, its later stages.
+
+    ``prefault_ok`` False: no pre-fault window (the record may start after the
+    fault did).
+    """
     n_t = t.size
     cs = cycle_samples
-    pre = prefault_window(t, k_on, n)
+    pre = prefault_window(t, k_on, n) if prefault_ok else None
     if pre is not None and pre.flagged:
         flags.append(pre.note)
     # pole openings after inception (the first of each phase)
