@@ -102,12 +102,13 @@ def fault_window(time_s, inception_index: int, stop_index: int, samples_per_cycl
     start = end - n + 1
     if start >= inception_index + 1:
         return _win(time_s, start, end, True,
-                    "the first pole opens less than two cycles after inception: window "
-                    "starts before the offset has decayed")
+                    "the first pole opens (or the record ends) less than two cycles after "
+                    "inception: window starts before the offset has decayed")
     start = min(inception_index + 1, max(n_t - n, 0))
     end = min(start + n - 1, n_t - 1)
     return _win(time_s, start, end, True,
-                "short fault (under one cycle): the window reaches past the pole opening")
+                "short fault (under one cycle): the window reaches past the pole opening "
+                "(or the record's end)")
 
 
 def steady_window(time_s, window: Window, stop_index: int, samples_per_cycle: int,
