@@ -242,3 +242,21 @@ def test_the_other_end_opening_is_seen_when_the_sound_phases_lose_their_load():
     # the departure is the last sample still on the old state: one sample early at most
     assert 0.16 - 1 / 3840 - 1e-9 <= stage.change_s <= 0.16 + 1 / 60
     assert abs(stage.i[1]) == pytest.approx(5000.0, rel=0.01)
+
+
+def test_fed_from_one_end_on_a_lightly_loaded_line():
+    # little load before the fault: the sound phases' current cannot fall much when
+    # the far end opens, but then it is line charging, leading its voltage by about
+    # 90 degrees; the same magnitude lagging is a fault share or load, not charging
+    from eventlab.signals.timeline import fed_from_one_end
+
+    a = np.exp(-2j * np.pi / 3)
+    v = 132.8e3 * np.array([0.4, a, a * a])
+    before = np.array([2400.0, 70.0 * a, 70.0 * a * a])
+    lead = np.array([2400.0, 45.0 * a * 1j, 45.0 * a * a * 1j])
+    lag = np.array([2400.0, -45.0 * a * 1j, -45.0 * a * a * 1j])
+    assert fed_from_one_end(lead, v, "AG", before) == pytest.approx(45.0 / 2400.0)
+    assert fed_from_one_end(lag, v, "AG", before) is None
+    # without the earlier currents only the ratio is tested; three-phase: never
+    assert fed_from_one_end(lag, v, "AG") is not None
+    assert fed_from_one_end(lead, v, "ABC", before) is None
