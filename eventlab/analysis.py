@@ -24,9 +24,9 @@ from eventlab import __version__
 from eventlab.errors import ChannelMapError, ModelError, SignalError
 from eventlab.locate.api import LocateOptions, LocationReport, locate_event
 from eventlab.locate.compare import ComparisonRow
-from eventlab.locate.inputs import from_fault_interval
+from eventlab.locate.inputs import from_fault_interval, with_remote_open
 from eventlab.locate.model_link import station_terminals
-from eventlab.records.model import Record
+from eventlab.records.model import Record, uniform_step
 from eventlab.records.roles import TerminalChannels, map_terminals
 from eventlab.signals.classify import Classification
 from eventlab.signals.frequency import (
@@ -307,7 +307,8 @@ def _rate(record: Record) -> tuple[float, int, bool]:
     # several rate segments (C37.111 nrates > 1): the fastest rate, the rest resampled;
     # evenly spaced time stamps of a coarse unit (260/261 us for 3840 Hz): the span
     # over the steps, not the median step
-    dt = float(t[-1] - t[0]) / (t.size - 1) if _uniform(t) else float(np.min(d))
+    step = uniform_step(t)
+    dt = step if step is not None else float(np.min(d))
     fs = 1.0 / dt
     f0 = record.frequency_hz
     if not (f0 and np.isfinite(f0) and f0 > 0):
@@ -323,9 +324,7 @@ def _rate(record: Record) -> tuple[float, int, bool]:
 
 def _uniform(t: np.ndarray) -> bool:
     """True when the sample times are evenly spaced (within 1 % of a step)."""
-    d = np.diff(t)
-    dt = float(np.median(d))
-    return bool(dt > 0 and np.max(np.abs(d - dt)) <= 0.01 * dt)
+    return uniform_step(t) is not None
 
 
 def _gaps_filled(term: TerminalChannels, record: Record, k_rec: int,
@@ -891,10 +890,7 @@ def confirmed_stage(end, mine: tuple, other: tuple, warnings: list[str] | None =
         f"{1e3 * dt:+.1f} ms from {orec.station}'s first pole opening (both records' "
         f"clocks): the fault was then fed from {rec.station} alone, and that stage "
         f"locates it")
-    return replace(end, v_remote_open=stage.v, i_remote_open=stage.i,
-                   remote_open_start_s=float(stage.window.start_s),
-                   remote_open_change_s=float(stage.change_s),
-                   remote_open_in_window=bool(stage.in_fault_window))
+    return with_remote_open(end, stage)
 
 
 #: pre-fault |V1| outside this range of the model bus's nominal phase voltage: the

@@ -74,13 +74,9 @@ class TerminalPhasors:
         on the same reference instant as the others; None when there was none.
     remote_open_start_s : float, optional
         Record time that stage's window starts [s].
-    remote_open_change_s : float, optional
-        Record time the currents changed when the other end opened [s].
     remote_open_in_window : bool
         The other end opened inside the fault window
         (:attr:`eventlab.signals.timeline.RemoteOpenStage.in_fault_window`).
-    window_end_s : float, optional
-        Record time the fault window ends [s] (with ``window_start_s``).
     """
 
     terminal_id: str | None
@@ -101,9 +97,7 @@ class TerminalPhasors:
     v_remote_open: np.ndarray | None = field(default=None, compare=False)
     i_remote_open: np.ndarray | None = field(default=None, compare=False)
     remote_open_start_s: float | None = field(default=None, compare=False)
-    remote_open_change_s: float | None = field(default=None, compare=False)
     remote_open_in_window: bool = field(default=False, compare=False)
-    window_end_s: float | None = field(default=None, compare=False)
 
     def __post_init__(self) -> None:
         for name in ("v_pre", "i_pre", "v_fault", "i_fault"):
@@ -173,6 +167,18 @@ class TerminalPhasors:
                        i_parallel_residual=i_par, **stage)
 
 
+def with_remote_open(end: TerminalPhasors, stage) -> TerminalPhasors:
+    """``end`` with the stage fed from it alone (a :class:`~eventlab.signals.timeline.RemoteOpenStage`).
+
+    ``stage`` None gives ``end`` unchanged.
+    """
+    if stage is None:
+        return end
+    return replace(end, v_remote_open=stage.v, i_remote_open=stage.i,
+                   remote_open_start_s=float(stage.window.start_s),
+                   remote_open_in_window=bool(stage.in_fault_window))
+
+
 def from_fault_interval(interval, *, station: str, frequency_hz: float,
                         terminal_id: str | None = None, record_start: datetime | None = None,
                         time0_s: float = 0.0, samples_per_cycle: int | None = None,
@@ -205,9 +211,9 @@ def from_fault_interval(interval, *, station: str, frequency_hz: float,
     """
     distortion = getattr(interval, "i_distortion", None)
     stage = getattr(interval, "remote_open", None)
-    if stage is not None and not getattr(stage, "confirmed", True):
+    if stage is not None and not stage.confirmed:
         stage = None          # a three-phase fault's change: not known to be the far end
-    return TerminalPhasors(
+    return with_remote_open(TerminalPhasors(
         terminal_id=terminal_id, station=station,
         v_pre=interval.v_prefault, i_pre=interval.i_prefault,
         v_fault=interval.v_fault, i_fault=interval.i_fault,
@@ -216,11 +222,5 @@ def from_fault_interval(interval, *, station: str, frequency_hz: float,
         record_start=record_start, samples_per_cycle=samples_per_cycle,
         i_parallel_residual=i_parallel_residual,
         window_start_s=float(interval.fault.start_s),
-        window_end_s=float(interval.fault.end_s),
         i_suspect=tuple(bool(x) for x in saturating_phases(interval.i_fault, distortion))
-        if distortion is not None else (False, False, False),
-        v_remote_open=None if stage is None else stage.v,
-        i_remote_open=None if stage is None else stage.i,
-        remote_open_start_s=None if stage is None else float(stage.window.start_s),
-        remote_open_change_s=None if stage is None else float(stage.change_s),
-        remote_open_in_window=False if stage is None else bool(stage.in_fault_window))
+        if distortion is not None else (False, False, False)), stage)

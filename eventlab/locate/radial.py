@@ -39,7 +39,7 @@ from .estimate import LocatorEstimate
 from .inputs import TerminalPhasors
 from .line import LineData
 from .loops import fault_resistance_from_loop, loop_current, loop_voltage, select_loop
-from .two_ended import _roots, to_fault
+from .two_ended import roots_along, to_fault
 
 _UNIT_V = np.ones(3, dtype=complex)
 _NO_I = np.zeros(3, dtype=complex)
@@ -111,7 +111,7 @@ def radial_stage(end: TerminalPhasors, line: LineData) -> LocatorEstimate:
         return float((v_l * np.conj(i_l)).imag / max(abs(i_l) ** 2, 1e-300)) \
             - (d - min(max(d, 0.0), length)) * abs(line.z_to(length)[0]) / length
 
-    roots = _roots(g, length)
+    roots = roots_along(g, length)
     if not roots:
         raise SignalError(f"{end.station}: the stage with the other end open has no "
                           f"resistive fault point on line {line.line_id}")

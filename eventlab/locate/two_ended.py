@@ -202,7 +202,8 @@ def _resistance(local: TerminalPhasors, remote_aligned: TerminalPhasors, line: L
     return fault_resistance_from_loop(local.fault_type, r_loop)
 
 
-def _roots(fun, length: float, n: int = 141) -> list[float]:
+def roots_along(fun, length: float, n: int = 141) -> list[float]:
+    """Roots of ``fun(d)`` for d in -0.2 .. 1.2 of ``length`` (grid of ``n``, then brentq)."""
     grid = np.linspace(-0.2 * length, 1.2 * length, n)
     vals = np.array([fun(x) for x in grid])
     return [brentq(fun, grid[k], grid[k + 1], xtol=1e-12 * length)
@@ -324,7 +325,7 @@ def two_ended_unsynchronised(local: TerminalPhasors, remote: TerminalPhasors,
     i1_pre_l, i1_pre_r = abc_to_012(local.i_pre)[1], abc_to_012(remote.i_pre)[1]
     have_pre = abs(i1_pre_r) > 1e-9 and abs(i1_pre_l) > 1e-9
     delta_pre = float(np.angle(-i1_pre_l / i1_pre_r)) if have_pre else None
-    roots = [r for r in _roots(g, length)]
+    roots = roots_along(g, length)
     if roots:
         inside = [r for r in roots if 0.0 <= r <= length] or [
             min(roots, key=lambda r: min(abs(r), abs(r - length)))]

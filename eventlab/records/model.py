@@ -137,15 +137,29 @@ class Record:
         if rates:
             return float(max(rates))
         if self.n_samples > 1:
-            d = np.diff(self.time)
-            dt = float(np.median(d))
-            if dt > 0 and np.max(np.abs(d - dt)) <= 0.01 * dt:
-                # evenly spaced but stamped to a coarse unit (260/261 us for 3840 Hz):
-                # the span over the steps is the rate, the median step is not
-                dt = float(self.time[-1] - self.time[0]) / (self.n_samples - 1)
+            dt = uniform_step(self.time)
+            if dt is None:
+                dt = float(np.median(np.diff(self.time)))
             if dt > 0:
                 return float(1.0 / dt)
         return 0.0
+
+
+def uniform_step(time_s) -> float | None:
+    """The sample step [s] of evenly spaced times, or None when they are not.
+
+    Evenly spaced: every step within 1 % of the median one.  The step is then
+    the span over the steps, so times stamped to a coarse unit (260 and 261 us
+    for 3840 Hz) give the rate, which the median step would not.
+    """
+    t = np.asarray(time_s, dtype=float)
+    if t.size < 2:
+        return None
+    d = np.diff(t)
+    dt = float(np.median(d))
+    if not (dt > 0 and np.max(np.abs(d - dt)) <= 0.01 * dt):
+        return None
+    return float(t[-1] - t[0]) / (t.size - 1)
 
 
 def _by_name(channels, name: str, kind: str):

@@ -26,14 +26,10 @@ from eventlab.errors import ChannelMapError
 from eventlab.records.model import AnalogChannel, Record, StatusChannel
 
 #: unit text -> (quantity, factor to SI)
-_UNITS = {
-    "V": ("V", 1.0), "kV": ("V", 1e3), "KV": ("V", 1e3), "kv": ("V", 1e3), "mV": ("V", 1e-3),
-    "MV": ("V", 1e6), "v": ("V", 1.0),
-    "A": ("I", 1.0), "kA": ("I", 1e3), "KA": ("I", 1e3), "ka": ("I", 1e3), "mA": ("I", 1e-3),
-    "a": ("I", 1.0),
-}
-# unit words found in recorders' cfg files, matched without regard to case; the
-# milli and mega prefixes (mV and MV, mA and MA) are case-sensitive and stay in _UNITS
+# the milli and mega prefixes differ only in case (mV and MV, mA and MA): matched as
+# written; every other unit below without regard to case
+_UNITS = {"mV": ("V", 1e-3), "MV": ("V", 1e6), "mA": ("I", 1e-3)}
+# unit words found in recorders' cfg files (V, kV, KV, Volts, A, kA, Amps ...)
 _UNIT_WORDS = {
     "v": ("V", 1.0), "kv": ("V", 1e3), "volt": ("V", 1.0), "volts": ("V", 1.0),
     "kilovolt": ("V", 1e3), "kilovolts": ("V", 1e3),

@@ -94,9 +94,9 @@ class RemoteOpenStage:
     terminal's poles opened and, over the window after the change, every
     unfaulted phase carries at most :data:`REMOTE_OPEN_HEALTHY_RATIO` times the
     smallest faulted-phase current (with the other end open, the unfaulted
-    phases of an unbalanced fault carry no fault current).  Three-phase faults
-    are never recognised: one end cannot tell the other end's opening from a
-    change of the fault.
+    phases of an unbalanced fault carry no fault current; :func:`fed_from_one_end`).
+    A three-phase fault's stage stays unconfirmed (``confirmed``): one end
+    cannot tell the other end's opening from a change of the fault.
 
     Attributes
     ----------
@@ -147,14 +147,13 @@ class RemoteOpenStage:
 #: ends closed they carry load and the difference of the two ends' distributions
 #: (common practice, no source)
 REMOTE_OPEN_HEALTHY_RATIO = 0.2
-#: changes followed at most, each to the next, to find the last one before this
-#: end's poles open (the stage fed from this end alone)
-STAGE_MAX_CHANGES = 20
-
 #: ... and the largest unfaulted-phase current at most this fraction of what it was
 #: with both ends closed (load gone: 25 A of charging against 400 A of load on the
 #: sequential-clearing sample, 0.06; common practice for the margin, no source)
 REMOTE_OPEN_HEALTHY_DROP = 0.3
+#: changes followed at most, each to the next, to find the last one before this
+#: end's poles open (the stage fed from this end alone)
+STAGE_MAX_CHANGES = 20
 
 
 @dataclass(frozen=True)
@@ -748,7 +747,7 @@ def build_timeline(time_s, v_abc, i_abc, samples_per_cycle: int, *,
     edges = tuple(sorted(edges, key=lambda e: e.index))
 
     intervals: list[FaultInterval] = []
-    prev_end = n           # end of the previous interval (none yet: unused)
+    prev_end = 0           # end of the previous interval (read once there is one)
     chans = np.vstack([d_v, d_i])
     raw = np.vstack([v, i])
     for a, b in runs:
@@ -761,7 +760,8 @@ def build_timeline(time_s, v_abc, i_abc, samples_per_cycle: int, *,
         # pre-fault window holding fault samples (located 22 km off).  Records with
         # three cycles or more before the phasors saw it keep a full-cycle baseline
         # (off nominal frequency the superimposed samples need it)
-        floor = 2 * n if a >= 3 * n else n + max(n // 4, 2)
+        earliest = n + max(n // 4, 2)
+        floor = 2 * n if a >= 3 * n else earliest
         s0 = max(a - 2 * n, (prev_end + n) if intervals else 0, floor)
         search = (min(s0, a), a + 1)
         # baseline: the cycle before the search, at least 64 samples where the record
@@ -785,8 +785,7 @@ def build_timeline(time_s, v_abc, i_abc, samples_per_cycle: int, *,
         # may have begun earlier, within the first cycle, where the superimposed
         # samples do not reach; every cycle before the onset found may hold it
         # (the threshold detector can be late by a quarter cycle; half a cycle kept)
-        early = (intervals == [] and search[0] == n + max(n // 4, 2) and k_on > n
-                 and k_on <= search[0] + n // 2)
+        early = not intervals and search[0] == earliest and n < k_on <= earliest + n // 2
         if k_on <= n:
             flags.append("the record starts in a fault: no pre-fault cycle")
         elif early:
@@ -905,6 +904,7 @@ def _stages(t, v, i, v_ph, i_ph, n, fs, k_on, run_end, poles, kind, mitigate, ta
         flags.append(f"fault at {t[k_on]:.4f} s: {win.note}")
     # evolving fault: classify each half cycle after the fault window, before the opening
     bounds = [(k_on, c, win, i_f, v_f)]
+    onset_notes: list[str] = []    # flags on the stages' onsets, kept if the stages stand
     k = win.end_index + n // 2
     pending = None
     while c.type != NO_FAULT and k < stop - 2:
@@ -924,8 +924,8 @@ def _stages(t, v, i, v_ph, i_ph, n, fs, k_on, run_end, poles, kind, mitigate, ta
                                     ) if s0 <= pending[0] else None
                 if k_ev is None:
                     k_ev = max(pending[0] - n + 1, k_prev + 1)
-                    flags.append(f"evolving fault near {t[k_ev]:.4f} s: onset estimated "
-                                 f"from phasors")
+                    onset_notes.append(f"evolving fault near {t[k_ev]:.4f} s: onset "
+                                       f"estimated from phasors")
                 if len(bounds) == 1 and bounds[0][2].end_index >= k_ev - 1:
                     # the first stage's window reached into the next stage: redo it
                     w1 = fault_window(t, k_on, k_ev, n)
@@ -1041,7 +1041,10 @@ def _stages(t, v, i, v_ph, i_ph, n, fs, k_on, run_end, poles, kind, mitigate, ta
             tau_s=tau if j == 0 else None, i_prefault=_ro(i_pre), v_prefault=_ro(v_pre),
             i_fault=_ro(ii), v_fault=_ro(vv), i_residual=i_res, v_residual=v_res,
             i_distortion=i_last, remote_open=radial))
-    return _merge_pole_scatter(out, n / fs, flags)
+    merged = _merge_pole_scatter(out, n / fs, flags)
+    if merged is out:
+        flags.extend(onset_notes)
+    return merged
 
 
 #: the stages between a fault and the same fault fed from this end alone last at
@@ -1080,14 +1083,6 @@ def _merge_pole_scatter(out: list[FaultInterval], cycle_s: float,
     if ratio is None:
         return out
     seen = out[1:-1] if first.type == last.type else out[:-1]
-    # the onsets of the stages merged were not an evolving fault's
-    for f in [f for f in flags if f.startswith("evolving fault near ")]:
-        try:
-            at = float(f.split()[3])
-        except (IndexError, ValueError):
-            continue
-        if first.start_s <= at <= last.start_s + cycle_s:
-            flags.remove(f)
     flags.append(f"fault at {first.start_s:.4f} s: the other end opened first, by about "
                  f"{out[1].start_s:.4f} s; the {', '.join(iv.type for iv in seen)} seen until "
                  f"{last.start_s:.4f} s was its poles opening one by one, not an evolving "
@@ -1171,20 +1166,16 @@ def remote_open_stage(t, v, i, n: int, fs: float, k_steady: int, stop: int, faul
     length = end - start + 1
     wi = fault_window_current(i, end, n, fs, None, length, cycle_samples=cycle_samples)
     wv = fault_window_current(v, end, n, fs, None, length, cycle_samples=cycle_samples)
-    if len(ph) == 3:
-        # three-phase: nothing in this record tells the other end's opening from a
-        # change of the fault; the stage waits for the other record to confirm it
-        return RemoteOpenStage(change_s=float(t[int(k_change)]),
-                               window=Window(start, end, float(t[start]), float(t[end])),
-                               i=_ro(wi.phasor), v=_ro(wv.phasor), healthy_ratio=0.0,
-                               in_fault_window=in_window, confirmed=False)
-    ratio = fed_from_one_end(wi.phasor, wv.phasor, fault_type, i_before)
+    # three-phase: nothing in this record tells the other end's opening from a change
+    # of the fault; the stage waits for the other record to confirm it
+    confirmed = len(ph) < 3
+    ratio = fed_from_one_end(wi.phasor, wv.phasor, fault_type, i_before) if confirmed else 0.0
     if ratio is None:
         return None
     return RemoteOpenStage(change_s=float(t[int(k_change)]),
                            window=Window(start, end, float(t[start]), float(t[end])),
                            i=_ro(wi.phasor), v=_ro(wv.phasor), healthy_ratio=ratio,
-                           in_fault_window=in_window)
+                           in_fault_window=in_window, confirmed=confirmed)
 
 
 def fed_from_one_end(i_abc, v_abc, fault_type: str, i_before=None) -> float | None:
@@ -1230,10 +1221,10 @@ def fed_from_one_end(i_abc, v_abc, fault_type: str, i_before=None) -> float | No
     mb = np.abs(np.asarray(i_before))
     if float(mag[healthy].max()) <= REMOTE_OPEN_HEALTHY_DROP * float(mb[healthy].max()):
         return ratio
-    lead = np.degrees(np.angle(i_abc[healthy] / np.where(v_abc[healthy] == 0, 1, v_abc[healthy])))
-    if np.all(np.abs(v_abc[healthy]) > 0) and np.all(np.abs(lead - 90.0) <= 45.0):
-        return ratio
-    return None
+    if not np.all(np.abs(v_abc[healthy]) > 0):
+        return None
+    lead = np.degrees(np.angle(i_abc[healthy] / v_abc[healthy]))
+    return ratio if np.all(np.abs(lead - 90.0) <= 45.0) else None
 
 
 def _onset_time(t, k: int) -> float:

@@ -14,6 +14,7 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from locate_models import radial_model
 
 from eventlab.analysis import analyze
 from eventlab.errors import SignalError
@@ -24,40 +25,11 @@ from eventlab.locate.model_link import line_from, phasors_from_solution
 from eventlab.locate.radial import open_line_admittance, radial_stage
 from eventlab.locate.single_ended import reactance
 from eventlab.network.faults import FaultSpec, solve_fault
-from eventlab.network.model import load_model, model_from_dict, with_source
+from eventlab.network.model import load_model, with_source
 from eventlab.network.simulate import SimulationSpec, simulate
 
 LENGTH_KM = 180.0
 NORTHMARCH = Path(__file__).resolve().parents[2] / "models" / "northmarch_230kv.toml"
-
-
-def _radial_model(sections: bool):
-    """A 230 kV line fed from VELLMOOR only, its CARDON REACH end open (made-up data)."""
-    line = {"id": "L1", "from": "VELLMOOR", "to": "CARDON_REACH"}
-    if sections:
-        line["section"] = [
-            {"length_km": 60.0, "z1_ohm_per_km": [0.030, 0.38], "z0_ohm_per_km": [0.26, 1.15],
-             "c1_nf_per_km": 9.5, "c0_nf_per_km": 6.0},
-            {"length_km": 12.0, "z1_ohm_per_km": [0.05, 0.13], "z0_ohm_per_km": [0.3, 0.1],
-             "c1_nf_per_km": 250.0, "c0_nf_per_km": 250.0},
-            {"length_km": 108.0, "z1_ohm_per_km": [0.025, 0.33], "z0_ohm_per_km": [0.22, 1.05],
-             "c1_nf_per_km": 11.0, "c0_nf_per_km": 7.0},
-        ]
-    else:
-        line.update(length_km=LENGTH_KM, z1_ohm_per_km=[0.030, 0.38],
-                    z0_ohm_per_km=[0.26, 1.15], c1_nf_per_km=9.0, c0_nf_per_km=6.0)
-    data = {
-        "system": {"name": "radial test", "frequency_hz": 60.0, "base_mva": 100.0},
-        "bus": [{"id": "VELLMOOR", "kv": 230.0}, {"id": "CARDON_REACH", "kv": 230.0}],
-        "source": [{"bus": "VELLMOOR", "z1_ohm": [0.9, 9.5], "z0_ohm": [1.6, 14.0],
-                    "emf_pu": 1.02}],
-        "line": [line],
-        "terminal": [
-            {"id": "VM-L1", "line": "L1", "bus": "VELLMOOR", "station": "VELLMOOR"},
-            {"id": "CR-L1", "line": "L1", "bus": "CARDON_REACH", "station": "CARDON REACH"},
-        ],
-    }
-    return model_from_dict(data, source_name="<radial>")
 
 
 @pytest.mark.parametrize("sections", [False, True])
@@ -67,7 +39,7 @@ def test_exact_on_the_solver_with_the_far_end_open(code, fraction, rf, sections)
     # fed from one end, the fault current is this end's current less the open line's
     # charging: exact whatever Rf, with the capacitance the simple reactance method
     # neglects (it errs here by up to 7 km on the 180 km line)
-    model = _radial_model(sections)
+    model = radial_model(sections=sections)
     rg = 3.0 if len(code) == 3 else 0.0
     res = solve_fault(model, FaultSpec("L1", fraction, code, rf, rg))
     end = phasors_from_solution(res, model, "VM-L1")
@@ -80,7 +52,7 @@ def test_exact_on_the_solver_with_the_far_end_open(code, fraction, rf, sections)
 def test_capacitance_matters_here():
     # the test above would pass for the reactance method too if the charging were
     # negligible: it is not, on this line
-    model = _radial_model(False)
+    model = radial_model()
     res = solve_fault(model, FaultSpec("L1", 0.9533, "AG", 50.0))
     end = phasors_from_solution(res, model, "VM-L1")
     err = reactance(end, line_from(model, "L1", model.terminal("VM-L1"))).distance_km \
@@ -92,7 +64,7 @@ def test_open_line_admittance_is_the_hyperbolic_closed_form():
     # input admittance of a line open at its far end: Y = tanh(gamma l) / Zc with
     # gamma = sqrt(z y), Zc = sqrt(z / y) (the long-line equations, e.g. Grainger &
     # Stevenson, Power System Analysis, 1994, ch. 6, from memory)
-    model = _radial_model(False)
+    model = radial_model()
     line = line_from(model, "L1", model.terminal("VM-L1"))
     w = 2 * np.pi * 60.0
     sec = line.sections[0]
@@ -107,7 +79,7 @@ def test_open_line_admittance_is_the_hyperbolic_closed_form():
 
 
 def test_no_stage_is_a_clear_error():
-    model = _radial_model(False)
+    model = radial_model()
     res = solve_fault(model, FaultSpec("L1", 0.5, "AG"))
     end = phasors_from_solution(res, model, "VM-L1")
     with pytest.raises(SignalError, match="other end open"):

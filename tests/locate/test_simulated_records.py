@@ -32,12 +32,17 @@ def _ends(records):
             for t in an.terminals]
 
 
-def test_bundled_two_ended_sample():
-    folder = ROOT / "sample_events" / "vm_cr1_bg"
+def _bundled(name):
+    """(truth, [VELLMOOR record, CARDON REACH record], model, line length) of a sample."""
+    folder = ROOT / "sample_events" / name
     truth = json.loads((folder / "truth.json").read_text())
     records = [read_record(folder / "VELLMOOR.cfg"), read_record(folder / "CARDON_REACH.cfg")]
     model = load_model(ROOT / "models" / "northmarch_230kv.toml")
-    length = model.line(truth["line"]).length_km
+    return truth, records, model, model.line(truth["line"]).length_km
+
+
+def test_bundled_two_ended_sample():
+    truth, records, model, length = _bundled("vm_cr1_bg")
     for ends, tol_pct in ((_ends(records), 0.5), (_ends(records)[:1], 1.0)):
         rep = locate_event(model, ends)
         assert abs(rep.distance_km - truth["distance_km"]) <= tol_pct / 100 * length
@@ -50,11 +55,7 @@ def test_bundled_two_ended_sample():
 def test_bundled_sequential_clearing_sample():
     # CARDON REACH opened first (zone 1); VELLMOOR fed the fault alone until its
     # zone-2 trip: that stage locates the fault without the sources or the load
-    folder = ROOT / "sample_events" / "vm_cr1_sequential"
-    truth = json.loads((folder / "truth.json").read_text())
-    records = [read_record(folder / "VELLMOOR.cfg"), read_record(folder / "CARDON_REACH.cfg")]
-    model = load_model(ROOT / "models" / "northmarch_230kv.toml")
-    length = model.line(truth["line"]).length_km
+    truth, records, model, length = _bundled("vm_cr1_sequential")
     ends = _ends(records)
     assert ends[0].i_remote_open is not None and ends[1].i_remote_open is None
     rep = locate_event(model, ends[:1])
@@ -222,15 +223,12 @@ def test_two_ended_fit_recovers_a_wrong_model_and_says_so():
 
     from eventlab.analysis import analyze
     from eventlab.network.model import with_source
-    folder = ROOT / "sample_events" / "vm_cr1_bg"
-    truth = json.loads((folder / "truth.json").read_text())
-    model = load_model(ROOT / "models" / "northmarch_230kv.toml")
+    truth, records, model, _ = _bundled("vm_cr1_bg")
     wrong = with_source(with_source(model, "CARDON_REACH", z_scale=1 / 0.7), "VELLMOOR",
                         z_scale=1 / 1.15)
     wrong = dataclasses.replace(wrong, lines=tuple(dataclasses.replace(ln, sections=tuple(
         dataclasses.replace(s, z0_ohm_per_km=s.z0_ohm_per_km * 1.05) for s in ln.sections))
         for ln in wrong.lines))
-    records = [read_record(folder / "VELLMOOR.cfg"), read_record(folder / "CARDON_REACH.cfg")]
     loc = analyze(records, model=wrong).location
     fit = loc.fit
     assert fit.local_z_scale == pytest.approx(1.15, rel=0.03)
