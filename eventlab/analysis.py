@@ -683,12 +683,32 @@ def model_terminal(model, record: Record, line: str | None = None,
     record's station (case-insensitive, spaces and underscores alike; else by
     the words of the name, :func:`~eventlab.locate.model_link.station_terminals`),
     on ``line`` when given; None when no terminal or more than one matches
-    (the record's channels are then mapped from their names).
+    (the record's channels are then mapped from their names).  When the
+    station name finds none, the record's device id (``rec_dev_id``) is tried
+    the same way: recorders are often named after the bay they sit in
+    ("VELLMOOR-VM-CR1 DFR") while the station field holds a code or a
+    number.
+    """
+    return model_terminal_found(model, record, line, terminal_id)[0]
+
+
+def model_terminal_found(model, record: Record, line: str | None = None,
+                         terminal_id: str | None = None):
+    """:func:`model_terminal` and how it was found: ``(terminal or None, how)``.
+
+    ``how`` is ``"terminal id"``, ``"station name"``, ``"station name (partial
+    match)"``, ``"device id"`` or ``""`` when nothing matched.
     """
     if terminal_id is not None:
-        return model.terminal(terminal_id)
-    hits, _ = station_terminals(model, record.station, line)
-    return hits[0] if len(hits) == 1 else None
+        return model.terminal(terminal_id), "terminal id"
+    hits, how = station_terminals(model, record.station, line)
+    if len(hits) == 1:
+        return hits[0], how
+    if not hits and record.device.strip():
+        by_device, _ = station_terminals(model, record.device, line)
+        if len(by_device) == 1:
+            return by_device[0], "device id"
+    return None, ""
 
 
 def _reversed_currents(term: TerminalChannels) -> TerminalChannels:
@@ -755,8 +775,12 @@ def analyze(records: Sequence[Record] | Record, model=None, line: str | None = N
                             f"{rec.frequency_hz:g} Hz cycle; resampled to {n} per cycle "
                             f"({n * rec.frequency_hz:g} Hz) for the phasors and the timeline")
         cmap = opts.channel_maps.get(k)
-        mt = None if (cmap is not None or model is None) else model_terminal(
+        mt, how = (None, "") if (cmap is not None or model is None) else model_terminal_found(
             model, rec, line, opts.terminals.get(k))
+        if mt is not None and how == "device id":
+            warnings.append(f"record {k}: station {rec.station!r} is not in the model; paired "
+                            f"with terminal {mt.id} (station {mt.station}) by the record's "
+                            f"device id {rec.device!r}: give --terminal if that is wrong")
         found = None
         if mt is not None:
             try:

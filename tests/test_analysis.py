@@ -664,3 +664,32 @@ def test_records_with_little_pre_fault_time_still_locate(start_s, pre_cycles_not
     t = analyze([cut[0]]).terminals[0].timeline
     if not pre_cycles_note:
         assert abs(t.inception_s + start_s - truth["inception_s"]) <= 0.5e-3
+
+
+def test_record_paired_by_its_device_id_when_the_station_field_is_a_code():
+    # A recorder whose station field holds a code ("SS-0417") but whose device id names
+    # the bay ("VELLMOOR-VM-CR1 simulated") pairs with that terminal, with a warning; a
+    # device id that names no terminal ("DFR 7") leaves the record to the line's other
+    # terminal beside a paired one, and with neither known nothing is located.
+    import dataclasses
+
+    from eventlab.network.model import load_model
+    from eventlab.records import read_record
+
+    root = Path(__file__).parents[1]
+    ev = root / "sample_events" / "vm_cr1_bg"
+    truth = json.loads((ev / "truth.json").read_text())
+    model = load_model(root / "models" / "northmarch_230kv.toml")
+    local = dataclasses.replace(read_record(ev / "VELLMOOR.cfg"), station="SS-0417")
+    remote = dataclasses.replace(read_record(ev / "CARDON_REACH.cfg"), station="SS-0952",
+                                 device="DFR 7")
+    a = analyze([remote, local], model=model)
+    loc = a.to_dict()["location"]
+    assert loc["reference_terminal"] == "CARDON_REACH-VM-CR1"
+    assert any("device id" in w and "VELLMOOR-VM-CR1" in w for w in a.warnings)
+    assert abs(loc["distance_km"] - truth["distance_from_km"]["CARDON_REACH-VM-CR1"]) \
+        <= 0.005 * loc["length_km"]
+    unknown = dataclasses.replace(local, device="DFR 9")
+    b = analyze([unknown, remote], model=model)
+    assert b.location is None
+    assert any("--terminal" in w for w in b.warnings)

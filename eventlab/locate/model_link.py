@@ -134,7 +134,8 @@ def pair_ends(model: NetworkModel, ends: Sequence[TerminalPhasors], line: str | 
         on = f" on line {line_id}" if line_id else ""
         raise ModelError(f"{model.source_name}: record of station {ends[k].station!r}: "
                          f"{problems[k]} at that station{on}; model terminals are {known}; "
-                         f"give --line or pair explicitly")
+                         f"{'give the line id, or ' if line is None else ''}pair the record "
+                         f"with its terminal explicitly (--terminal on the command line)")
     for k, t in enumerate(terms):
         if t.line != line_id:
             raise ModelError(f"{model.source_name}: terminal {t.id} is on line {t.line}, not on "
