@@ -53,6 +53,7 @@ from eventlab.locate import locate_event  # noqa: E402
 from eventlab.locate.inputs import from_fault_interval  # noqa: E402
 from eventlab.locate.model_link import line_from, pair_ends, phasors_from_solution  # noqa: E402
 from eventlab.locate.single_ended import reactance  # noqa: E402
+from eventlab.network.emt_cvt import Cvt  # noqa: E402
 from eventlab.network.faults import FaultSpec, solve_fault  # noqa: E402
 from eventlab.network.model import load_model, with_source  # noqa: E402
 from eventlab.network.simulate import SimulationSpec, simulate  # noqa: E402
@@ -132,6 +133,9 @@ def main(argv=None) -> int:
     ap.add_argument("--remote-delay", type=float, default=0.0, metavar="S",
                     help="sequential clearing: CARDON REACH trips and opens this much later "
                          "than VELLMOOR [s] (negative: earlier; default 0, as in the README)")
+    ap.add_argument("--cvt", choices=("active", "passive"), default=None,
+                    help="capacitor voltage transformers (eventlab.network.emt_cvt, demo "
+                         "parameters) with this suppression circuit instead of ideal VTs")
     args = ap.parse_args(argv)
     base = load_model(ROOT / "models" / "northmarch_230kv.toml")
     length = base.line(LINE).length_km
@@ -152,7 +156,8 @@ def main(argv=None) -> int:
                               clear_after_s=0.08, duration_s=0.25,
                               samples_per_cycle=c["spc"], noise=0.001, seed=7,
                               anti_alias_hz=AA_FRACTION * c["spc"] * f_hz,
-                              remote_delay_s=args.remote_delay)
+                              remote_delay_s=args.remote_delay,
+                              cvt=None if args.cvt is None else Cvt(fsc=args.cvt))
         sim = simulate(truth_model, spec)
         d_true = c["fraction"] * length
         ends, ends2 = ends_of(sim.records, truth_model)
@@ -201,7 +206,8 @@ def main(argv=None) -> int:
     elapsed = time.perf_counter() - t_start
     mode = "quick" if args.quick else "full"
     seq = (f", CARDON REACH clearing {1e3 * args.remote_delay:+.0f} ms after VELLMOOR"
-           if args.remote_delay else "")
+           if args.remote_delay else "") + (f", CVTs ({args.cvt} suppression circuit)"
+                                            if args.cvt else "")
     print(f"# Location accuracy, {len(cases)} simulated cases ({mode} grid), line {LINE} "
           f"{length} km, anti-aliasing at {AA_FRACTION:g} fs{seq}, {elapsed:.0f} s")
     for label in ("true", "perturbed"):

@@ -67,6 +67,10 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--ct-burden", type=float, default=4.0, metavar="OHM",
                         help="CT secondary loop resistance with --ct-saturation [ohm] "
                              "(default 4)")
+    parser.add_argument("--cvt", choices=("active", "passive"), default=None,
+                        help="capacitor voltage transformers with this ferroresonance "
+                             "suppression circuit instead of ideal VTs (their transient "
+                             "after a voltage collapse; default: ideal VTs)")
     parser.add_argument("--line-model", choices=("rl", "pi"), default=None,
                         help="series R-L, or pi sections with the line capacitance (default: "
                              "pi when the model gives capacitance)")
@@ -92,6 +96,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
 
 def run(args: argparse.Namespace) -> int:
     from eventlab.network.emt_ct import CtSaturation
+    from eventlab.network.emt_cvt import Cvt
     from eventlab.network.model import load_model
     from eventlab.network.simulate import SimulationSpec, simulate, write_simulation
 
@@ -116,7 +121,8 @@ def run(args: argparse.Namespace) -> int:
             permanent=not args.temporary, single_pole=args.single_pole,
             frequency_hz=args.frequency, vt_side=args.vt_side,
             anti_alias_hz=args.anti_alias, adc_bits=args.adc_bits,
-            line_model=args.line_model, remote_delay_s=args.remote_delay)
+            line_model=args.line_model, remote_delay_s=args.remote_delay,
+            cvt=None if args.cvt is None else Cvt(fsc=args.cvt))
     except ValueError as exc:
         raise ModelError(f"simulate: {exc}") from None
     result = simulate(model, spec)

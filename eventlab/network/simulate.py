@@ -56,6 +56,7 @@ from eventlab.network.emt import (
     element_voltage_index,
 )
 from eventlab.network.emt_ct import CtSaturation, ct_secondary
+from eventlab.network.emt_cvt import Cvt, cvt_output
 from eventlab.network.model import Line, LineSection, NetworkModel, Terminal
 from eventlab.network.perunit import transformer_z_pu, voltage_zones
 from eventlab.records.build import make_record
@@ -136,6 +137,10 @@ class SimulationSpec:
     ct_saturation : CtSaturation, optional
         CT core model, applied at the terminals named in ``ct_saturation_at``
         (all terminals when empty).
+    cvt : Cvt, optional
+        Capacitor voltage transformers (:mod:`eventlab.network.emt_cvt`: their
+        subsidence transient after a voltage collapse) instead of ideal VTs,
+        at the terminals named in ``cvt_at`` (all terminals when empty).
     evolve_to : str, optional
         Fault code the fault becomes ``evolve_after_s`` [s] after inception.
     reclose_after_s : float, optional
@@ -204,6 +209,8 @@ class SimulationSpec:
     seed: int = 0
     ct_saturation: CtSaturation | None = None
     ct_saturation_at: tuple[str, ...] = ()
+    cvt: Cvt | None = None
+    cvt_at: tuple[str, ...] = ()
     evolve_to: str | None = None
     evolve_after_s: float = 0.0
     reclose_after_s: float | None = None
@@ -328,6 +335,7 @@ class Truth:
     source_frequency_hz: float | None = None
     notes: str = ""
     anti_alias_hz: float | None = None
+    cvt: str | None = None                 # suppression circuit of the CVTs, None: ideal VTs
 
     def to_dict(self) -> dict:
         """JSON-ready mapping (angles in degrees, times in seconds)."""
@@ -730,9 +738,10 @@ def simulate(model: NetworkModel, spec: SimulationSpec) -> SimulationResult:
     if mode == "pi" and not has_c:
         raise ModelError(f"{model.source_name}: simulate: line_model 'pi' needs c1_nf_per_km and "
                          f"c0_nf_per_km on the lines")
-    unknown = [t for t in spec.ct_saturation_at if t not in {x.id for x in model.terminals}]
+    unknown = [t for t in (*spec.ct_saturation_at, *spec.cvt_at)
+               if t not in {x.id for x in model.terminals}]
     if unknown:
-        raise ModelError(f"{model.source_name}: simulate: ct_saturation_at names unknown "
+        raise ModelError(f"{model.source_name}: simulate: ct_saturation_at or cvt_at names unknown "
                          f"terminal(s) {', '.join(unknown)}; terminals are "
                          f"{', '.join(t.id for t in model.terminals)}")
     lay = _build(model, spec, mode)
@@ -941,6 +950,8 @@ def simulate(model: NetworkModel, spec: SimulationSpec) -> SimulationResult:
         if spec.ct_saturation is not None and (not spec.ct_saturation_at
                                                or t.id in spec.ct_saturation_at):
             i_sec = ct_secondary(i_sec, dt, f, spec.ct_saturation)
+        if spec.cvt is not None and (not spec.cvt_at or t.id in spec.cvt_at):
+            v_prim = cvt_output(v_prim, dt, f, spec.cvt, vt[1] / math.sqrt(3.0))
         if spec.anti_alias_hz is not None:
             i_sec = _anti_alias(i_sec, dt, spec.anti_alias_hz, spc_int)
             v_prim = _anti_alias(v_prim, dt, spec.anti_alias_hz, spc_int)
@@ -978,6 +989,7 @@ def simulate(model: NetworkModel, spec: SimulationSpec) -> SimulationResult:
                           for t in model.terminals_of_line(fline.id)}
         if spec.type != NO_FAULT else {},
         anti_alias_hz=spec.anti_alias_hz,
+        cvt=None if spec.cvt is None else spec.cvt.fsc,
     )
     return SimulationResult(records=records, truth=truth, terminals=terms)
 
