@@ -74,3 +74,23 @@ def test_simulate_sequential_clearing(tmp_path):
     assert far - near > 0.01
     assert main(["simulate", "--model", str(MODEL), "--line", "OR-HF1", "--at", "0.5",
                  "--type", "AG", "--remote-delay", "-1", "-o", str(tmp_path / "x")]) == 2
+
+
+def test_simulate_with_cvts_on_a_50_hz_system(tmp_path):
+    # --cvt: the voltages come through the CVT model (tuned to the model's 50 Hz); the
+    # truth says so, and the record's pre-fault voltage is the ideal one's (the
+    # steady-state gain is divided out) while the fault's first cycle is not
+    common = ["simulate", "--model", str(MODEL), "--line", "OR-HF1", "--at", "0.2",
+              "--type", "AG", "--inception-angle", "90", "--rate", "32", "--duration", "0.25",
+              "--format", "float32", "--revision", "2013"]
+    assert main(common + ["--cvt", "active", "-o", str(tmp_path / "cvt")]) == 0
+    assert main(common + ["-o", str(tmp_path / "ideal")]) == 0
+    truth = json.loads((tmp_path / "cvt" / "truth.json").read_text())
+    assert truth["cvt"] == "active"
+    assert json.loads((tmp_path / "ideal" / "truth.json").read_text())["cvt"] is None
+    va = [next(c for c in read_record(tmp_path / d / "ORRINSBY.cfg").analog
+               if c.name == "VA").values for d in ("cvt", "ideal")]
+    n0 = int(round(truth["inception_s"] * 50.0 * 32))
+    peak = float(abs(va[1][:n0]).max())
+    assert float(abs(va[0][:n0] - va[1][:n0]).max()) < 2e-3 * peak
+    assert float(abs(va[0][n0:n0 + 32] - va[1][n0:n0 + 32]).max()) > 5e-3 * peak
