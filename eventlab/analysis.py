@@ -24,6 +24,7 @@ from eventlab import __version__
 from eventlab.errors import ChannelMapError, ModelError, SignalError
 from eventlab.locate.api import LocateOptions, LocationReport, locate_event
 from eventlab.locate.compare import ComparisonRow
+from eventlab.locate.consistency import check_pair, direction_check, has_prefault
 from eventlab.locate.inputs import from_fault_interval, with_remote_open
 from eventlab.locate.model_link import station_terminals
 from eventlab.records.model import Record, uniform_step
@@ -581,6 +582,9 @@ def _terminal(record: Record, k_rec: int, term: TerminalChannels, n: int, fs: fl
 #: words of the measurement check that finds A-C-B rotating voltages (the location
 #: step looks for them)
 ACB_FLAG = "rotate A-C-B"
+#: words of the check that finds currents rotating A-C-B under A-B-C voltages (two
+#: CT phases swapped): that end is left out of the location
+CURRENT_ACB_FLAG = "currents run A-C-B"
 
 #: Plausibility limits of :func:`measurement_checks` (common practice, no source):
 #: a healthy pre-fault system has unbalance well under these.
@@ -625,11 +629,19 @@ def measurement_checks(v012_pre, i012_pre, i012_fault=None, i_n_fault=None) -> l
         elif v1 > 0 and max(v0, v2) > PREFAULT_V_UNBALANCE_LIMIT * v1:
             out.append(f"pre-fault voltages unbalanced (|V0|/|V1| {v0 / v1:.2f}, |V2|/|V1| "
                        f"{v2 / v1:.2f}): VT wiring, polarity or a blown VT fuse suspected")
+    v_abc_order = v012_pre is not None and abs(complex(v012_pre[1])) > abs(complex(v012_pre[2]))
     if i012_pre is not None and i012_fault is not None:
         i0, i1, i2 = (abs(complex(x)) for x in i012_pre)
         i_scale = max(abs(complex(x)) for x in i012_fault)
+        if v_abc_order and i2 > max(i1, 0.02 * i_scale, 1e-9):
+            # two phases swapped: |I2| = |I|, I1 = I0 = 0; one phase reversed:
+            # |I2| = |I0| = 2 |I1|
+            what = ("one phase's CT polarity or wiring reversed" if i0 > 0.3 * i2
+                    else "two CT phases swapped")
+            out.append(f"pre-fault {CURRENT_ACB_FLAG} (|I2| {i2:.4g} A > |I1| {i1:.4g} A, "
+                       f"|I0| {i0:.4g} A) under A-B-C voltages: {what} suspected")
         # only where the load current is well above the noise of the fault-scaled CT
-        if i1 > 0.02 * i_scale and max(i0, i2) > PREFAULT_UNBALANCE_LIMIT * i1:
+        elif i1 > 0.02 * i_scale and max(i0, i2) > PREFAULT_UNBALANCE_LIMIT * i1:
             out.append(f"pre-fault currents unbalanced (|I0|/|I1| {i0 / i1:.2f}, |I2|/|I1| "
                        f"{i2 / i1:.2f}): CT polarity or wiring of one phase suspected")
     if i_n_fault is not None and i012_fault is not None and np.isfinite(complex(i_n_fault)):
@@ -925,10 +937,14 @@ V_NOMINAL_RANGE = (0.7, 1.3)
 
 
 def _unusable(end, kv_nominal: float | None = None) -> str | None:
-    """Why an end's phasors cannot locate a fault (a dead or missing measurement), or None.
+    """Why an end's phasors cannot locate a fault, or None.
 
-    ``kv_nominal``: the model bus's nominal line-to-line voltage [kV], to check
-    the record's scaling against (see :data:`V_NOMINAL_RANGE`).
+    A dead or missing measurement, voltages that do not fit the model's bus
+    (``kv_nominal``: its nominal line-to-line voltage [kV], see
+    :data:`V_NOMINAL_RANGE`), pre-fault currents that a reversed or swapped CT
+    phase unbalances (:data:`PREFAULT_UNBALANCE_LIMIT`), or currents that read
+    the fault behind the bus (:func:`direction_check`: the whole CT set's
+    polarity reversed, or a fault that is not on this line).
     """
     for kind, pre, flt in (("current", end.i_pre, end.i_fault),
                            ("voltage", end.v_pre, end.v_fault)):
@@ -956,6 +972,21 @@ def _unusable(end, kv_nominal: float | None = None) -> str | None:
                     f"({kv_nominal / np.sqrt(3.0):.4g} kV phase to ground): check the "
                     f"record's ratios, its primary/secondary flag and units, and that the "
                     f"model is this line's")
+    if has_prefault(end):
+        i0, i1, i2 = np.abs(abc_to_012(end.i_pre))
+        i_scale = float(np.max(np.abs(abc_to_012(end.i_fault))))
+        if i1 > 0.02 * i_scale and max(i0, i2) > PREFAULT_UNBALANCE_LIMIT * i1:
+            return (f"its pre-fault currents are unbalanced (|I0|/|I1| {i0 / i1:.2f}, "
+                    f"|I2|/|I1| {i2 / i1:.2f}) where its voltages are not: a reversed, "
+                    f"swapped or miswired CT phase; a location needs the phase currents as "
+                    f"the model has them")
+    seen = direction_check(end)
+    if seen is not None and seen[0] == "reverse":
+        seq = "superimposed positive" if end.fault_type == "ABC" else "negative"
+        return (f"its currents read the fault behind the bus ({seq}-sequence -dV/dI at "
+                f"{seen[1]:+.0f} deg, where a fault on the line gives the source impedance's "
+                f"angle, about +60 to +90 deg): the CT polarity of the whole set reversed "
+                f"(or the fault is not on this line)")
     return None
 
 
@@ -993,7 +1024,10 @@ def _locate(records: Sequence[Record], terms: Sequence[TerminalAnalysis], model,
             kvs.append(None if mt is None else model.bus(mt.bus).kv)
         except ModelError:
             kvs.append(None)
-        known.append((off_freq or {}).get(k))
+        known.append((off_freq or {}).get(k) or (
+            "its pre-fault currents run A-C-B under A-B-C voltages (CT phases swapped or "
+            "one reversed); a location needs the phase currents as the model has them"
+            if any(CURRENT_ACB_FLAG in f for f in ta.flags) else None))
         sources.append((rec, ta))
         ip_name = ta.channels.get("IP")
         i_par = ta.fault.get(ip_name) if ip_name is not None else None
@@ -1026,11 +1060,24 @@ def _locate(records: Sequence[Record], terms: Sequence[TerminalAnalysis], model,
             f"{e.station}: {why}" for e, why in zip(ends, unusable, strict=True)))
         return None
     if len(ends) == 2:
-        late = _missed_inception(ends)
-        why = None
-        if late is None and any(unusable):
+        # a measurement that cannot be used outranks the fault types' disagreement,
+        # which a miswired end causes too
+        late, why = None, None
+        if any(unusable):
             late = 0 if unusable[0] else 1
             why = unusable[late]
+        else:
+            late = _missed_inception(ends)
+        if late is None:
+            try:
+                late, disagreement = check_pair(model, tuple(ends), line)
+            except ModelError:
+                late, disagreement = None, None
+            if disagreement is not None and late is None:
+                warnings.append(f"location: {disagreement}; the location below uses both "
+                                f"and may be off: compare each record's own")
+            elif disagreement is not None:
+                why = disagreement
         if late is not None:
             bad, good = ends[late], ends[1 - late]
             first_t = model_terms.get(0) if late == 0 else None

@@ -693,3 +693,62 @@ def test_record_paired_by_its_device_id_when_the_station_field_is_a_code():
     b = analyze([unknown, remote], model=model)
     assert b.location is None
     assert any("--terminal" in w for w in b.warnings)
+
+
+def _sabotaged(rec, names, factor):
+    import dataclasses
+
+    return dataclasses.replace(rec, analog=tuple(
+        dataclasses.replace(c, values=c.values * factor) if c.name in names else c
+        for c in rec.analog))
+
+
+def _swap_currents(rec, p, q):
+    import dataclasses
+
+    by = {c.name: c for c in rec.analog}
+    swap = {p: by[q].values, q: by[p].values}
+    return dataclasses.replace(rec, analog=tuple(
+        dataclasses.replace(c, values=swap[c.name]) if c.name in swap else c
+        for c in rec.analog))
+
+
+@pytest.mark.parametrize("case, bad_end, why", [
+    ("remote CT set reversed", 1, "behind the bus"),
+    ("remote IA reversed", 1, "A-C-B"),
+    ("local IB, IC swapped", 0, "A-C-B"),
+    ("local CT ratio x2", 0, "disagree on the pre-fault state"),
+    ("remote CT ratio x0.8", 1, "disagree on the pre-fault state"),
+    ("remote VT ratio x1.1", 1, "disagree on the pre-fault state"),
+])
+def test_a_miswired_or_misscaled_end_is_left_out_of_the_location(case, bad_end, why):
+    # The bundled B-G event with one end's instrument transformers spoilt the way a
+    # commissioning slip spoils them.  Before: the answer was off by 0.6 to 56 km (the
+    # fit, or a two-ended method, took the bad end's currents at face value).  Now the
+    # bad end is named and left out, and the other locates within 0.5 % of the line.
+    from eventlab.network.model import load_model
+    from eventlab.records import read_record
+
+    root = Path(__file__).parents[1]
+    ev = root / "sample_events" / "vm_cr1_bg"
+    truth = json.loads((ev / "truth.json").read_text())
+    model = load_model(root / "models" / "northmarch_230kv.toml")
+    recs = [read_record(ev / "VELLMOOR.cfg"), read_record(ev / "CARDON_REACH.cfg")]
+    currents = ("IA", "IB", "IC", "IN")
+    spoil = {
+        "remote CT set reversed": lambda r: _sabotaged(r, currents, -1.0),
+        "remote IA reversed": lambda r: _sabotaged(r, ("IA",), -1.0),
+        "local IB, IC swapped": lambda r: _swap_currents(r, "IB", "IC"),
+        "local CT ratio x2": lambda r: _sabotaged(r, currents, 2.0),
+        "remote CT ratio x0.8": lambda r: _sabotaged(r, currents, 0.8),
+        "remote VT ratio x1.1": lambda r: _sabotaged(r, ("VA", "VB", "VC"), 1.1),
+    }[case]
+    recs[bad_end] = spoil(recs[bad_end])
+    a = analyze(recs, model=model)
+    loc = a.to_dict()["location"]
+    station = recs[bad_end].station
+    note = next(w for w in a.warnings if w.startswith(f"location: {station} not used"))
+    assert why in note
+    assert loc["reference_terminal"] == "VELLMOOR-VM-CR1"      # distances from record 0
+    assert abs(loc["distance_km"] - truth["distance_km"]) <= 0.005 * loc["length_km"]
+    assert not any(m["method"].startswith("two_ended") for m in loc["methods"])
