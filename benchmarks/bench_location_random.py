@@ -48,7 +48,6 @@ sys.path.insert(0, str(Path(__file__).resolve().parent))
 from bench_location_accuracy import AA_FRACTION, LINE, ends_of  # noqa: E402
 
 from eventlab.faulttypes import FAULT_TYPES, involves_ground  # noqa: E402
-from eventlab.locate import locate_event  # noqa: E402
 from eventlab.network.model import load_model, with_source  # noqa: E402
 from eventlab.network.simulate import SimulationSpec, simulate  # noqa: E402
 
@@ -109,13 +108,17 @@ def main(argv=None) -> int:
                                    "radial_stage": []}
     cover: dict[str, list[bool]] = {"single": [], "two": []}
     worst: dict[str, tuple] = {}
+    not_located: list[tuple] = []
     t0 = time.perf_counter()
     for _ in range(args.n):
         truth, spec = draw(rng, base, args.sequential, args.far_fast)
-        ends, ends2 = ends_of(simulate(truth, spec).records, truth)
+        _, locate = ends_of(simulate(truth, spec).records, truth)
         d = spec.fraction * length
-        for kind, use in (("single", ends[:1]), ("two", ends2)):
-            rep = locate_event(base, use, line=LINE)
+        for kind in ("single", "two"):
+            rep = locate(base, kind == "two")
+            if rep is None:
+                not_located.append((kind, spec.type, round(spec.fraction, 3)))
+                continue
             e = 100.0 * abs(rep.distance_km - d) / length
             err[kind].append(e)
             lo, hi = rep.interval_km
@@ -146,6 +149,8 @@ def main(argv=None) -> int:
         cv = f"{100 * np.mean(cover[kind]):.1f} %" if kind in cover else "-"
         print(f"| {label} | {e.max():.2f} | {np.percentile(e, 95):.2f} | {e.mean():.2f} | {cv} |")
     print()
+    if not_located:
+        print(f"NOT LOCATED: {len(not_located)} (kind, type, fraction): {not_located[:5]}")
     for kind, w in worst.items():
         print(f"worst {kind}-ended: {w[0]:.2f} % ({w[1]}) for {w[2]} at {w[3]} of the line, "
               f"Rf {w[4]} ohm, {w[5]} samples per cycle")

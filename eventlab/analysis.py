@@ -823,11 +823,9 @@ def analyze(records: Sequence[Record] | Record, model=None, line: str | None = N
             if f_first is None:
                 f_first = f_est
             tracked_any |= tracked
-        if f_first is not None and abs(f_first - rec.frequency_hz) > FREQ_OFF_REL * \
-                rec.frequency_hz:
-            off_freq[k] = (f"its signals run at {f_first:.2f} Hz against the lf field's "
-                           f"{rec.frequency_hz:g} Hz (a wrong lf, or a record of another "
-                           f"system)")
+        why_freq = _off_frequency(f_first, rec.frequency_hz)
+        if why_freq is not None:
+            off_freq[k] = why_freq
             warnings.append(f"record {k}: the voltages run at {f_first:.2f} Hz, the cfg's lf "
                             f"field says {rec.frequency_hz:g} Hz: the phasors, the timing "
                             f"and any location are computed for {rec.frequency_hz:g} Hz; "
@@ -854,6 +852,71 @@ def analyze(records: Sequence[Record] | Record, model=None, line: str | None = N
         comparison = tuple(location.comparison.rows)
     return Analysis(records=tuple(infos), terminals=tuple(terms), primary=primary,
                     warnings=tuple(warnings), location=location, comparison=comparison)
+
+
+def _off_frequency(f_hz: float | None, lf_hz: float) -> str | None:
+    """Why a record's measured frequency keeps it out of the location, or None."""
+    if f_hz is None or abs(f_hz - lf_hz) <= FREQ_OFF_REL * lf_hz:
+        return None
+    return (f"its signals run at {f_hz:.2f} Hz against the lf field's {lf_hz:g} Hz (a wrong "
+            f"lf, or a record of another system)")
+
+
+def locate_analysis(analysis: Analysis, records: Sequence[Record], model,
+                    line: str | None = None, options: AnalysisOptions | None = None,
+                    use: Sequence[int] | None = None
+                    ) -> tuple[LocationReport | None, tuple[str, ...]]:
+    """The location step of :func:`analyze` on an analysis already made.
+
+    For studies that analyse records once and locate them with several models
+    (or from one end and from both): the same checks, pairing and fallbacks as
+    ``analyze(records, model=...)``, on ``analysis`` (made from ``records``,
+    with or without a model: channels stay as it mapped them).
+
+    Parameters
+    ----------
+    analysis : Analysis
+    records : sequence of Record
+        The records ``analysis`` was made from, in the same order.
+    model : NetworkModel
+    line : str, optional
+    options : AnalysisOptions, optional
+        Its ``terminals`` and ``locate`` apply.
+    use : sequence of int, optional
+        Indices of the records to locate from (default: all), e.g. ``(0,)``
+        for the first record alone.
+
+    Returns
+    -------
+    (LocationReport or None, warnings)
+        The report (None where :func:`analyze` would give none) and the
+        location's own warnings.
+    """
+    opts = options if options is not None else AnalysisOptions()
+    records = list(records)
+    if len(records) != len(analysis.records):
+        raise SignalError(f"locate_analysis: {len(records)} records for an analysis of "
+                          f"{len(analysis.records)}")
+    keep = tuple(range(len(records))) if use is None else tuple(use)
+    renum = {k: j for j, k in enumerate(keep)}
+    terms = [replace(t, record=renum[t.record]) for t in analysis.terminals
+             if t.record in renum]
+    recs = [records[k] for k in keep]
+    model_terms: dict[int, Any] = {}
+    off_freq: dict[int, str] = {}
+    spc: dict[int, int] = {}
+    for j, k in enumerate(keep):
+        info = analysis.records[k]
+        spc[j] = info.samples_per_cycle
+        mt = model_terminal(model, records[k], line, opts.terminals.get(k))
+        if mt is not None:
+            model_terms[j] = mt
+        why_freq = _off_frequency(info.frequency_hz, info.nominal_frequency_hz)
+        if why_freq is not None:
+            off_freq[j] = why_freq
+    warnings: list[str] = []
+    rep = _locate(recs, terms, model, line, model_terms, spc, opts, warnings, off_freq)
+    return rep, tuple(warnings)
 
 
 #: two ends' inceptions further apart than this [cycles] in absolute time, with

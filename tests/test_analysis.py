@@ -752,3 +752,27 @@ def test_a_miswired_or_misscaled_end_is_left_out_of_the_location(case, bad_end, 
     assert loc["reference_terminal"] == "VELLMOOR-VM-CR1"      # distances from record 0
     assert abs(loc["distance_km"] - truth["distance_km"]) <= 0.005 * loc["length_km"]
     assert not any(m["method"].startswith("two_ended") for m in loc["methods"])
+
+
+def test_locate_analysis_is_the_location_of_analyze():
+    # the location step on an analysis made without a model gives what analyze with the
+    # model gives, from both records and from each alone (distances, method, warnings)
+    from eventlab.analysis import locate_analysis
+    from eventlab.network.model import load_model
+    from eventlab.records import read_record
+
+    root = Path(__file__).parents[1]
+    ev = root / "sample_events" / "vm_cr1_sequential"
+    model = load_model(root / "models" / "northmarch_230kv.toml")
+    recs = [read_record(ev / "VELLMOOR.cfg"), read_record(ev / "CARDON_REACH.cfg")]
+    once = analyze(recs)
+    for use in (None, (0,), (1,)):
+        chosen = recs if use is None else [recs[k] for k in use]
+        full = analyze(chosen, model=model)
+        rep, warnings = locate_analysis(once, recs, model, use=use)
+        assert rep.to_dict() == full.location.to_dict()
+        assert set(warnings) <= set(full.warnings)
+        assert [w for w in full.warnings if w.startswith("location:")] == \
+            [w for w in warnings if w.startswith("location:")]
+    with pytest.raises(SignalError, match="2 records"):
+        locate_analysis(analyze(recs[:1]), recs, model)
