@@ -164,8 +164,14 @@ def verdicts(rows: Sequence[ComparisonRow], fault_type: str, fit: ModelFitResult
     if fit is not None:
         for label, k in (("local", fit.local_z_scale), ("remote", fit.remote_z_scale)):
             if abs(math.log(k)) > math.log(1.25):
+                # at the reference end -dV/dI is the local source: a CT reading 1/k
+                # times the true current, or a VT k times the true voltage, looks the
+                # same from one end (with two the pre-fault agreement tells them apart)
+                alt = (f", or the reference end's CT ratio (currents {1 / k:.2f} times the "
+                       f"true) or VT ratio ({k:.2f} times)"
+                       if label == "local" and len(fit.used_terminals) == 1 else "")
                 out.append(f"the fit put the {label} source impedance at {k:.2f} times the "
-                           f"model's: source strength in the model suspected")
+                           f"model's: source strength in the model suspected{alt}")
         if abs(math.log(fit.z0_scale)) > math.log(1.0 + Z0_SCALE_NOTE):
             out.append(f"the fit put the line's Z0 at {fit.z0_scale:.3f} times the model's: "
                        f"the line's zero-sequence constants (earth resistivity, earth "

@@ -191,3 +191,15 @@ def test_report_seen_from_the_other_terminal():
     truth = json.loads((folder / "truth.json").read_text())
     assert abs(seen.distance_km - truth["distance_from_km"][other]) <= 0.005 * L
     assert rep.seen_from(model, rep.reference_terminal) is rep
+
+
+def test_one_end_with_its_currents_doubled_names_the_ct_ratio_as_well():
+    # from one end a CT ratio error and the local source strength look the same
+    # (-dV/dI is the local source impedance): the verdict names both
+    model = two_source_model(load_angle_deg=9.0)
+    a, _ = _ends(model, 0.3, "AG", 1.0)
+    doubled = dataclasses.replace(a, i_pre=2.0 * a.i_pre, i_fault=2.0 * a.i_fault)
+    rep = locate_event(model, [doubled])
+    assert rep.fit.local_z_scale == pytest.approx(0.5, rel=0.05)
+    words = " ".join(rep.comparison.verdicts)
+    assert "CT ratio (currents 2.0" in words and "source strength" in words
