@@ -862,6 +862,30 @@ def _off_frequency(f_hz: float | None, lf_hz: float) -> str | None:
             f"lf, or a record of another system)")
 
 
+def _widened_by_each_end(model, ends, line, opts, warnings):
+    """Both ends' location, its interval widened to hold each end's own interval.
+
+    For two records that disagree where neither end can be blamed
+    (:func:`eventlab.locate.consistency.check_pair`): the search zone must
+    hold what each record alone says.
+    """
+    try:
+        rep = locate_event(model, ends, line=line, options=opts.locate)
+    except (ModelError, SignalError) as exc:
+        warnings.append(f"location: not made ({exc})")
+        return None
+    lo, hi = rep.interval_km
+    for k, end in enumerate(ends):
+        try:
+            own = locate_event(model, [end], line=line, options=opts.locate)
+            own = own.seen_from(model, rep.reference_terminal) if k else own
+        except (ModelError, SignalError):
+            continue
+        lo, hi = min(lo, own.interval_km[0]), max(hi, own.interval_km[1])
+    return rep.widened(model, (lo, hi), f"interval widened to {lo:.2f} .. {hi:.2f} km to hold "
+                                        f"each record's own answer (the records disagree)")
+
+
 def locate_analysis(analysis: Analysis, records: Sequence[Record], model,
                     line: str | None = None, options: AnalysisOptions | None = None,
                     use: Sequence[int] | None = None
@@ -1137,8 +1161,9 @@ def _locate(records: Sequence[Record], terms: Sequence[TerminalAnalysis], model,
             except ModelError:
                 late, disagreement = None, None
             if disagreement is not None and late is None:
-                warnings.append(f"location: {disagreement}; the location below uses both "
-                                f"and may be off: compare each record's own")
+                warnings.append(f"location: {disagreement}; the location below uses both, "
+                                f"its interval widened to hold each record's own answer")
+                return _widened_by_each_end(model, ends, line, opts, warnings)
             elif disagreement is not None:
                 why = disagreement
         if late is not None:

@@ -776,3 +776,33 @@ def test_locate_analysis_is_the_location_of_analyze():
             [w for w in warnings if w.startswith("location:")]
     with pytest.raises(SignalError, match="2 records"):
         locate_analysis(analyze(recs[:1]), recs, model)
+
+
+def test_records_that_disagree_with_no_end_to_blame_widen_the_interval():
+    # CARDON REACH's CTs read 25 % high, and VELLMOOR's source is 25 % weaker than the
+    # model file's: a local CT 20 % low would explain the records as well, so neither
+    # end is left out; the interval then holds each record's own answer
+    from eventlab.network.model import load_model, with_source
+    from eventlab.network.simulate import SimulationSpec, simulate
+
+    root = Path(__file__).parents[1]
+    model = load_model(root / "models" / "northmarch_230kv.toml")
+    truth = with_source(model, "VELLMOOR", z_scale=1.25)
+    sim = simulate(truth, SimulationSpec(line="VM-CR1", fraction=0.5, type="AG",
+                                         r_fault_ohm=1.0, inception_s=0.1, clear_after_s=0.08,
+                                         duration_s=0.25, samples_per_cycle=32,
+                                         anti_alias_hz=0.3 * 32 * 60.0))
+    ids = [t.id for t in model.terminals_of_line("VM-CR1")]
+    recs = [sim.records[ids[0]], _sabotaged(sim.records[ids[1]], ("IA", "IB", "IC"), 1.25)]
+    a = analyze(recs, model=model)
+    assert any("disagree on the pre-fault state" in w and "do not say which" in w
+               for w in a.warnings)
+    loc = a.location
+    own = [analyze([r], model=model).location for r in recs]
+    own[1] = own[1].seen_from(model, ids[0])
+    lo, hi = loc.interval_km
+    for r in own:
+        assert lo <= r.interval_km[0] + 1e-9 and r.interval_km[1] - 1e-9 <= hi
+    assert any("widened" in n for n in loc.notes)
+    d = sim.truth.distance_km
+    assert lo <= d <= hi

@@ -143,6 +143,24 @@ class LocationReport:
                        notes=self.notes + (f"distances given from {terminal_id} (located from "
                                            f"{self.reference_terminal})",))
 
+    def widened(self, model: NetworkModel, interval_km: tuple[float, float],
+                why: str) -> LocationReport:
+        """The same report with its interval widened to hold ``interval_km`` too.
+
+        The structures are re-read for the wider interval and ``why`` becomes a
+        note (e.g. the two records disagree and each end's own answer must stay
+        inside the search zone).
+        """
+        lo = max(0.0, min(self.interval_km[0], float(interval_km[0])))
+        hi = min(self.length_km, max(self.interval_km[1], float(interval_km[1])))
+        if (lo, hi) == tuple(self.interval_km):
+            return self
+        t = model.terminal(self.reference_terminal)
+        structures = locate_structures(line_from(model, self.line_id, t), self.best.distance_km,
+                                       (lo, hi))
+        return replace(self, interval_km=(lo, hi), structures=structures,
+                       notes=self.notes + (why,))
+
     def to_dict(self) -> dict:
         b = self.best
         loc = {
