@@ -154,8 +154,10 @@ def suspect_end(agreement: PrefaultAgreement, seen: tuple[complex | None, comple
     too high makes ``i_ratio = 1/k`` and the local one ``1/k``.  A VT error
     acts the other way round on ``v_ratio``.  The end whose apparent source
     impedance accounts for the mismatch, with the other end's near the
-    model's, is the suspect: the two explanations' misfits (in log ratio)
-    must differ by at least half of the mismatch's own.
+    model's, is the suspect: its explanation's misfit (in log ratio) must be
+    under half of the mismatch's own, and the other explanation's larger by at
+    least as much (an unmodelled tap load or model sources off by as much as
+    the mismatch blame neither end).
     """
     if any(z is None or z == 0 for z in (*seen, *model_z)):
         return None
@@ -170,7 +172,8 @@ def suspect_end(agreement: PrefaultAgreement, seen: tuple[complex | None, comple
     sign = -1.0 if use_i else 1.0          # a CT error shows inverted in -dV/dI
     remote_misfit = abs(r[1] - sign * k) + abs(r[0])
     local_misfit = abs(r[0] + sign * k) + abs(r[1])
-    if abs(remote_misfit - local_misfit) < 0.5 * abs(k):
+    best, other = sorted((remote_misfit, local_misfit))
+    if best > 0.5 * abs(k) or other - best < 0.5 * abs(k):
         return None
     return 1 if remote_misfit < local_misfit else 0
 

@@ -138,3 +138,16 @@ def test_suspect_end_needs_both_impedances():
     assert suspect_end(agr, (None, 5j), (4j, 5j)) is None
     assert suspect_end(agr, (4j, 5j / 0.7), (4j, 5j)) == 1
     assert np.isclose(abs(5j / 0.7) / abs(5j), 1 / 0.7)
+
+
+def test_suspect_end_needs_an_explanation_that_fits():
+    from eventlab.locate.consistency import PrefaultAgreement
+
+    # a 10 % current mismatch; the remote -dV/dI 26 % under the model's: a remote CT
+    # 10 % high explains only part of it (the rest: the model's source, an unmodelled
+    # tap load), so no end is blamed although the remote explanation is the better one
+    agr = PrefaultAgreement(1.0, float(np.exp(0.1)), 0.0)
+    seen = (4j * np.exp(0.05), 5j * np.exp(-0.3))
+    assert suspect_end(agr, seen, (4j, 5j)) is None
+    # the same mismatch wholly explained by the remote CT
+    assert suspect_end(agr, (4j, 5j * np.exp(-0.1)), (4j, 5j)) == 1
