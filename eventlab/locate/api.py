@@ -13,6 +13,7 @@ from eventlab.network.model import NetworkModel
 from eventlab.units import km_to_miles
 
 from .compare import Comparison, compare
+from .consistency import prefault_agreement
 from .estimate import LocatorEstimate
 from .inputs import TerminalPhasors
 from .model_fit import CT_CLASSES, VT_CLASSES, FitOptions, ModelFitResult, fit_fault
@@ -59,6 +60,11 @@ class LocateOptions:
         their clocks are trusted as aligned.
     time_sigma_s : float
         One-sigma clock alignment error of synchronised records [s].
+    max_prefault_angle_deg : float
+        Time-aligned records whose remote pre-fault V1 is further than this
+        from the local one carried along the line [deg] are turned to the
+        pre-fault state (0.5: the line's Z1 tolerance moves the expected angle
+        by about a tenth of a degree at full load).
     ratio_tolerance, angle_tolerance_deg : float
         Measured-versus-computed tolerance [-], [deg].
     run_fit : bool
@@ -73,6 +79,7 @@ class LocateOptions:
     terminal_map: Mapping[str, str] | None = None
     max_sync_offset_s: float = 0.5e-3
     time_sigma_s: float = 10e-6
+    max_prefault_angle_deg: float = 0.5
     ratio_tolerance: float = 0.10
     angle_tolerance_deg: float = 10.0
     run_fit: bool = True
@@ -340,6 +347,23 @@ def locate_event(model: NetworkModel, ends: Sequence[TerminalPhasors], line: str
         synced = None
         if sync.synchronised:
             aligned = align_remote(ref_end, remote)
+            agreement = prefault_agreement(ref_end, aligned, ld)
+            if agreement is not None:
+                off = agreement.v_angle_deg
+                sync = replace(sync, prefault_angle_deg=off)
+                if abs(off) > opts.max_prefault_angle_deg:
+                    # time stamps that agree, phasors that do not: the recorders'
+                    # anti-aliasing filters or channel skews differ (a 2nd-order filter at
+                    # 360 Hz lags 60 Hz by 13.6 deg, one at 1152 Hz by 4.2 deg)
+                    aligned = aligned.rotated(-math.radians(off))
+                    sync = replace(sync, realigned=True)
+                    notes.append(
+                        f"two_ended_sync: the time stamps agree but the remote pre-fault "
+                        f"positive-sequence voltage is {off:+.2f} deg off the local one "
+                        f"carried along the line (more than {opts.max_prefault_angle_deg:g} "
+                        f"deg: the recorders' anti-aliasing filters or channel skews "
+                        f"differ?); the remote phasors were turned by {-off:+.2f} deg to the "
+                        f"pre-fault state")
             synced = _try(notes, "two_ended_sync", two_ended_synchronised, ref_end, aligned,
                           ld, aligned=True)
             if synced is not None:

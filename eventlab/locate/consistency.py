@@ -101,6 +101,9 @@ class PrefaultAgreement:
     v_ratio: float
     i_ratio: float | None
     pf_angle_diff_deg: float | None
+    # angle of the measured over the expected remote V1 [deg]: meaningful only for
+    # records on one clock (the phase offset that remains after their alignment)
+    v_angle_deg: float = 0.0
 
     @property
     def agrees(self) -> bool:
@@ -136,11 +139,12 @@ def prefault_agreement(local: TerminalPhasors, remote: TerminalPhasors,
     v_ratio = abs(v_meas) / abs(v_exp) if abs(v_exp) > 0 else math.inf
     floor = PREFAULT_MIN_CURRENT * max(float(np.max(np.abs(local.i_fault))),
                                        float(np.max(np.abs(remote.i_fault))))
+    v_angle = math.degrees(np.angle(v_meas / v_exp)) if abs(v_exp) > 0 else 0.0
     if min(abs(i_exp), abs(i_meas), abs(complex(i012[1]))) <= floor:
-        return PrefaultAgreement(v_ratio, None, None)
+        return PrefaultAgreement(v_ratio, None, None, v_angle)
     i_ratio = abs(i_meas) / abs(i_exp)
     pf = math.degrees(np.angle((v_meas / i_meas) / (v_exp / i_exp)))
-    return PrefaultAgreement(v_ratio, i_ratio, pf)
+    return PrefaultAgreement(v_ratio, i_ratio, pf, v_angle)
 
 
 def suspect_end(agreement: PrefaultAgreement, seen: tuple[complex | None, complex | None],

@@ -60,10 +60,15 @@ class SyncCheck:
     offset_samples: float | None
     synchronised: bool
     reason: str
+    # the remote pre-fault V1 against the local one carried along the line, after the
+    # alignment by the clocks [deg]; turned back when beyond the limit (``realigned``)
+    prefault_angle_deg: float | None = None
+    realigned: bool = False
 
     def to_dict(self) -> dict:
         return {"offset_s": self.offset_s, "offset_samples": self.offset_samples,
-                "synchronised": self.synchronised, "reason": self.reason}
+                "synchronised": self.synchronised, "reason": self.reason,
+                "prefault_angle_deg": self.prefault_angle_deg, "realigned": self.realigned}
 
 
 def sync_check(local: TerminalPhasors, remote: TerminalPhasors,

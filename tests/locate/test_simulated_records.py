@@ -280,3 +280,39 @@ def test_two_ended_fit_recovers_a_wrong_model_and_says_so():
     right = analyze(records, model=model).location
     assert not any("Z0 at" in v or "source impedance at" in v
                    for v in right.comparison.verdicts)
+
+
+def test_recorders_with_other_rates_and_filters_are_turned_to_the_prefault_state():
+    # VELLMOOR samples 64 times a cycle behind a filter at 1152 Hz, CARDON REACH 20 times
+    # behind one at 360 Hz: their clocks agree, but the filters delay the fundamental
+    # differently.  Expected offset: the phase of the two 2nd-order Butterworth responses
+    # at 60 Hz (scipy.signal.butter / freqs, analog prototype).  Before the pre-fault
+    # realignment the two-ended answer of this A-G fault was 13 % of the line off.
+    import math
+
+    import numpy as np
+    from scipy.signal import butter, freqs
+
+    from eventlab.analysis import analyze
+
+    model = load_model(ROOT / "models" / "northmarch_230kv.toml")
+    ids = [t.id for t in model.terminals_of_line("VM-CR1")]
+    recs = []
+    for tid, spc in zip(ids, (64, 20), strict=True):
+        sim = simulate(model, SimulationSpec(
+            line="VM-CR1", fraction=0.3, type="AG", r_fault_ohm=10.0, inception_s=0.1,
+            inception_angle_deg=20.0, clear_after_s=0.08, duration_s=0.25,
+            samples_per_cycle=spc, noise=0.001, seed=3, anti_alias_hz=0.3 * spc * 60.0))
+        recs.append(sim.records[tid])
+        truth = sim.truth
+    lag = []
+    for spc in (64, 20):
+        b, a = butter(2, 2 * math.pi * 0.3 * spc * 60.0, analog=True)
+        lag.append(float(np.angle(freqs(b, a, [2 * math.pi * 60.0])[1][0], deg=True)))
+    loc = analyze(recs, model=model).location
+    assert loc.sync.synchronised and loc.sync.realigned
+    assert loc.sync.prefault_angle_deg == pytest.approx(lag[1] - lag[0], abs=0.3)
+    length = model.line("VM-CR1").length_km
+    assert abs(loc.distance_km - truth.distance_km) <= 0.005 * length
+    sync = next(m for m in loc.methods if m.method == "two_ended_sync")
+    assert abs(sync.distance_km - truth.distance_km) <= 0.005 * length
