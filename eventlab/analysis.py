@@ -854,6 +854,35 @@ def analyze(records: Sequence[Record] | Record, model=None, line: str | None = N
                     warnings=tuple(warnings), location=location, comparison=comparison)
 
 
+def on_one_clock(records: Sequence[Record], warnings: list[str] | None = None) -> list[Record]:
+    """The records with their start times in UTC, where every one says its time code.
+
+    Records from recorders in other time zones (C37.111-2013 ``time_code``,
+    :attr:`Record.utc_offset`) are compared on one clock; where a record does
+    not say its time code (1999 and earlier), the stamps are compared as
+    written.  ``warnings`` gets a line when the codes differ (and were
+    applied) or when only some records carry one.
+    """
+    records = list(records)
+    offsets = [r.utc_offset for r in records]
+    if len(records) < 2 or all(o is None for o in offsets):
+        return records
+    if any(o is None for o in offsets):
+        if any(o for o in offsets if o is not None):      # a zone beside a record with none
+            (warnings if warnings is not None else []).append(
+                "location: some records state a time code and some do not: their time "
+                "stamps are compared as written")
+        return records
+    if len(set(offsets)) > 1 and warnings is not None:
+        warnings.append("location: the records' time stamps are in different time codes (" +
+                        ", ".join(f"{r.station} {r.time_code}" for r in records) +
+                        "): compared in UTC")
+    return [r if r.start is None else replace(r, start=r.start - o,
+                                              trigger=None if r.trigger is None
+                                              else r.trigger - o)
+            for r, o in zip(records, offsets, strict=True)]
+
+
 def _off_frequency(f_hz: float | None, lf_hz: float) -> str | None:
     """Why a record's measured frequency keeps it out of the location, or None."""
     if f_hz is None or abs(f_hz - lf_hz) <= FREQ_OFF_REL * lf_hz:
@@ -1090,6 +1119,7 @@ def _locate(records: Sequence[Record], terms: Sequence[TerminalAnalysis], model,
     reads its phases as A-B-C, and what it finds there (a fault from the first
     sample, the wrong type) would send a patrol to the wrong place.
     """
+    records = on_one_clock(records, warnings)
     acb = sorted({records[t.record].station for t in terms
                   if any(ACB_FLAG in f for f in t.flags)})
     if acb:

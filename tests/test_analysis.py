@@ -806,3 +806,34 @@ def test_records_that_disagree_with_no_end_to_blame_widen_the_interval():
     assert any("widened" in n for n in loc.notes)
     d = sim.truth.distance_km
     assert lo <= d <= hi
+
+
+def test_records_in_other_time_codes_are_compared_in_utc():
+    # C37.111-2013 time_code (from memory: the stamps' offset from UTC, ISO 8601 sign):
+    # CARDON REACH's recorder stamps local time one hour ahead of UTC and says "+1";
+    # VELLMOOR's says "0".  In UTC the records are simultaneous and the synchronised
+    # method runs; with the codes left out they are an hour apart and it does not.
+    import dataclasses
+    from datetime import timedelta
+
+    from eventlab.network.model import load_model
+    from eventlab.records import read_record
+    from eventlab.records.model import time_code_offset
+
+    assert time_code_offset("-5h30") == -timedelta(hours=5, minutes=30)
+    assert time_code_offset("+1") == timedelta(hours=1) and time_code_offset("0") == timedelta(0)
+    assert time_code_offset("x") is None and time_code_offset("") is None
+    root = Path(__file__).parents[1]
+    ev = root / "sample_events" / "vm_cr1_bg"
+    model = load_model(root / "models" / "northmarch_230kv.toml")
+    local = dataclasses.replace(read_record(ev / "VELLMOOR.cfg"), revision=2013, time_code="0")
+    rem = read_record(ev / "CARDON_REACH.cfg")
+    ahead = dataclasses.replace(rem, revision=2013, time_code="+1",
+                                start=rem.start + timedelta(hours=1),
+                                trigger=rem.trigger + timedelta(hours=1))
+    a = analyze([local, ahead], model=model)
+    assert a.location.sync.synchronised
+    assert any("different time codes" in w for w in a.warnings)
+    b = analyze([local, dataclasses.replace(ahead, time_code="")], model=model)
+    assert not b.location.sync.synchronised
+    assert b.location.sync.offset_s == pytest.approx(3600.0, abs=1e-3)

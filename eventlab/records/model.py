@@ -11,8 +11,9 @@ read-only views.
 
 from __future__ import annotations
 
+import re
 from dataclasses import dataclass, field
-from datetime import datetime
+from datetime import datetime, timedelta
 from typing import Literal
 
 import numpy as np
@@ -127,6 +128,17 @@ class Record:
         return int(self.time.shape[0])
 
     @property
+    def utc_offset(self) -> timedelta | None:
+        """The ``time_code`` as an offset of the time stamps from UTC, or None.
+
+        C37.111-2013 clause 6.12 (from memory): ``time_code`` is the time stamps'
+        offset from UTC in hours (and minutes), ``-5h30`` for stamps 5 h 30 min
+        behind UTC, as an ISO 8601 offset; so UTC is the stamp minus the offset.  None when
+        the record has none (revisions 1991 and 1999, an empty field, ``x``).
+        """
+        return time_code_offset(self.time_code)
+
+    @property
     def duration_s(self) -> float:
         return float(self.time[-1] - self.time[0]) if self.n_samples else 0.0
 
@@ -143,6 +155,15 @@ class Record:
             if dt > 0:
                 return float(1.0 / dt)
         return 0.0
+
+
+def time_code_offset(code: str) -> timedelta | None:
+    """``-5h30`` -> -5.5 h, ``+1`` -> 1 h, ``0`` -> 0; None for ``""``, ``x`` or another text."""
+    m = re.fullmatch(r"\s*([+-]?)(\d{1,2})(?:[hH](\d{1,2}))?\s*", code or "")
+    if m is None:
+        return None
+    sign = -1 if m.group(1) == "-" else 1
+    return sign * timedelta(hours=int(m.group(2)), minutes=int(m.group(3) or 0))
 
 
 def uniform_step(time_s) -> float | None:
