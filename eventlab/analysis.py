@@ -45,6 +45,7 @@ from eventlab.signals.phasors import (
 )
 from eventlab.signals.sequence import sequence_phasors
 from eventlab.signals.timeline import Timeline, build_timeline, saturating_phases
+from eventlab.signals.windows import SHORT_FAULT
 from eventlab.symmetrical import abc_to_012
 from eventlab.units import polar_deg
 
@@ -1130,6 +1131,7 @@ def _locate(records: Sequence[Record], terms: Sequence[TerminalAnalysis], model,
     ends = []
     kvs: list[float | None] = []     # nominal kV of each end's bus in the model
     known: list[str | None] = []     # a reason found before the phasors (frequency)
+    shorts: list[str | None] = []    # less than a cycle of the fault in the record
     sources: list[tuple[Record, TerminalAnalysis]] = []   # each end's record and terminal
     for k, rec in enumerate(records):
         ta = next((t for t in terms if t.record == k and t.timeline.intervals), None)
@@ -1145,6 +1147,9 @@ def _locate(records: Sequence[Record], terms: Sequence[TerminalAnalysis], model,
             "its pre-fault currents run A-C-B under A-B-C voltages (CT phases swapped or "
             "one reversed); a location needs the phase currents as the model has them"
             if any(CURRENT_ACB_FLAG in f for f in ta.flags) else None))
+        shorts.append(f"it holds less than a cycle of the fault ({iv.fault.note}): no "
+                      f"phasor of the fault can be measured from it"
+                      if iv.fault.flagged and iv.fault.note.startswith(SHORT_FAULT) else None)
         sources.append((rec, ta))
         ip_name = ta.channels.get("IP")
         i_par = ta.fault.get(ip_name) if ip_name is not None else None
@@ -1159,6 +1164,7 @@ def _locate(records: Sequence[Record], terms: Sequence[TerminalAnalysis], model,
     if len(ends) > 2:
         warnings.append(f"location: {len(ends)} faulted records; the first two are used")
         ends, kvs, known, sources = ends[:2], kvs[:2], known[:2], sources[:2]
+        shorts = shorts[:2]
     if len(ends) == 2:
         ends = [confirmed_stage(ends[k], sources[k], sources[1 - k], warnings)
                 for k in range(2)]
@@ -1172,9 +1178,9 @@ def _locate(records: Sequence[Record], terms: Sequence[TerminalAnalysis], model,
                             f"three-phase fault does not say which) and the location from it "
                             f"may be off; the other end's record would tell")
     unusable = [why or _unusable(e, kv) for e, kv, why in zip(ends, kvs, known, strict=True)]
-    if all(unusable):
+    if all(u or sh for u, sh in zip(unusable, shorts, strict=True)):
         warnings.append("location: not made: " + "; ".join(
-            f"{e.station}: {why}" for e, why in zip(ends, unusable, strict=True)))
+            f"{e.station}: {u or sh}" for e, u, sh in zip(ends, unusable, shorts, strict=True)))
         return None
     if len(ends) == 2:
         # a measurement that cannot be used outranks the fault types' disagreement,
@@ -1185,6 +1191,9 @@ def _locate(records: Sequence[Record], terms: Sequence[TerminalAnalysis], model,
             why = unusable[late]
         else:
             late = _missed_inception(ends)
+            if late is None and any(shorts):
+                late = 0 if shorts[0] else 1
+                why = shorts[late]
         if late is None:
             try:
                 late, disagreement = check_pair(model, tuple(ends), line)

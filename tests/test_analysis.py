@@ -837,3 +837,44 @@ def test_records_in_other_time_codes_are_compared_in_utc():
     b = analyze([local, dataclasses.replace(ahead, time_code="")], model=model)
     assert not b.location.sync.synchronised
     assert b.location.sync.offset_s == pytest.approx(3600.0, abs=1e-3)
+
+
+def _ending_at(rec, t_end_s):
+    """The record cut after ``t_end_s`` (record time) [s]."""
+    import dataclasses
+
+    from eventlab.records.model import RateSegment
+
+    k = int(np.searchsorted(rec.time, t_end_s))
+    return dataclasses.replace(
+        rec, time=rec.time[:k], rates=(RateSegment(rec.rates[0].samp_hz, k),),
+        analog=tuple(dataclasses.replace(c, values=c.values[:k]) for c in rec.analog),
+        status=tuple(dataclasses.replace(c, values=c.values[:k]) for c in rec.status))
+
+
+def test_an_end_with_less_than_a_cycle_of_the_fault_is_not_located_from():
+    # A record that ends 0.8 cycles after inception: no one-cycle phasor of the fault
+    # exists.  Located from it (before), simulated A-G, B-C and three-phase faults read
+    # 5 to 20 % of the line off, with intervals that missed the truth; now that end is
+    # left out and says why, and with the other record the location stands.
+    from eventlab.network.model import load_model
+    from eventlab.records import read_record
+
+    root = Path(__file__).parents[1]
+    ev = root / "sample_events" / "vm_cr1_bg"
+    truth = json.loads((ev / "truth.json").read_text())
+    model = load_model(root / "models" / "northmarch_230kv.toml")
+    recs = [read_record(ev / "VELLMOOR.cfg"), read_record(ev / "CARDON_REACH.cfg")]
+    t_end = truth["inception_s"] + 0.8 / 60.0
+    short = _ending_at(recs[1], t_end)
+    alone = analyze([short], model=model)
+    assert alone.location is None
+    assert any("less than a cycle of the fault" in w for w in alone.warnings)
+    both = analyze([recs[0], short], model=model)
+    assert any("CARDON REACH not used: it holds less than a cycle" in w for w in both.warnings)
+    length = model.line(truth["line"]).length_km
+    assert abs(both.location.distance_km - truth["distance_km"]) <= 0.005 * length
+    # a cycle and a half of the fault is enough
+    longer = analyze([_ending_at(recs[1], truth["inception_s"] + 1.5 / 60.0)], model=model)
+    want = truth["distance_from_km"]["CARDON_REACH-VM-CR1"]
+    assert abs(longer.location.distance_km - want) <= 0.01 * length

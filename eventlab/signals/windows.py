@@ -19,6 +19,11 @@ from dataclasses import dataclass
 STEADY_MAX_CYCLES = 3.0
 
 
+#: the words of a fault window that holds less than a cycle of the fault (a phasor
+#: of the fault cannot be measured from it; the location step leaves that end out)
+SHORT_FAULT = "short fault"
+
+
 @dataclass(frozen=True)
 class Window:
     """A data window ``[start_index, end_index]`` (inclusive) and its times [s].
@@ -107,8 +112,8 @@ def fault_window(time_s, inception_index: int, stop_index: int, samples_per_cycl
     start = min(inception_index + 1, max(n_t - n, 0))
     end = min(start + n - 1, n_t - 1)
     return _win(time_s, start, end, True,
-                "short fault (under one cycle): the window reaches past the pole opening "
-                "(or the record's end)")
+                f"{SHORT_FAULT} (under one cycle): the window reaches past the pole opening "
+                f"(or the record's end)")
 
 
 def steady_window(time_s, window: Window, stop_index: int, samples_per_cycle: int,
