@@ -673,16 +673,9 @@ def test_record_paired_by_its_device_id_when_the_station_field_is_a_code():
     # terminal beside a paired one, and with neither known nothing is located.
     import dataclasses
 
-    from eventlab.network.model import load_model
-    from eventlab.records import read_record
-
-    root = Path(__file__).parents[1]
-    ev = root / "sample_events" / "vm_cr1_bg"
-    truth = json.loads((ev / "truth.json").read_text())
-    model = load_model(root / "models" / "northmarch_230kv.toml")
-    local = dataclasses.replace(read_record(ev / "VELLMOOR.cfg"), station="SS-0417")
-    remote = dataclasses.replace(read_record(ev / "CARDON_REACH.cfg"), station="SS-0952",
-                                 device="DFR 7")
+    (vm, cr), truth, model = _sample_pair()
+    local = dataclasses.replace(vm, station="SS-0417")
+    remote = dataclasses.replace(cr, station="SS-0952", device="DFR 7")
     a = analyze([remote, local], model=model)
     loc = a.to_dict()["location"]
     assert loc["reference_terminal"] == "CARDON_REACH-VM-CR1"
@@ -726,14 +719,7 @@ def test_a_miswired_or_misscaled_end_is_left_out_of_the_location(case, bad_end, 
     # commissioning slip spoils them.  Before: the answer was off by 0.6 to 56 km (the
     # fit, or a two-ended method, took the bad end's currents at face value).  Now the
     # bad end is named and left out, and the other locates within 0.5 % of the line.
-    from eventlab.network.model import load_model
-    from eventlab.records import read_record
-
-    root = Path(__file__).parents[1]
-    ev = root / "sample_events" / "vm_cr1_bg"
-    truth = json.loads((ev / "truth.json").read_text())
-    model = load_model(root / "models" / "northmarch_230kv.toml")
-    recs = [read_record(ev / "VELLMOOR.cfg"), read_record(ev / "CARDON_REACH.cfg")]
+    recs, truth, model = _sample_pair()
     currents = ("IA", "IB", "IC", "IN")
     spoil = {
         "remote CT set reversed": lambda r: _sabotaged(r, currents, -1.0),
@@ -816,18 +802,13 @@ def test_records_in_other_time_codes_are_compared_in_utc():
     import dataclasses
     from datetime import timedelta
 
-    from eventlab.network.model import load_model
-    from eventlab.records import read_record
     from eventlab.records.model import time_code_offset
 
     assert time_code_offset("-5h30") == -timedelta(hours=5, minutes=30)
     assert time_code_offset("+1") == timedelta(hours=1) and time_code_offset("0") == timedelta(0)
     assert time_code_offset("x") is None and time_code_offset("") is None
-    root = Path(__file__).parents[1]
-    ev = root / "sample_events" / "vm_cr1_bg"
-    model = load_model(root / "models" / "northmarch_230kv.toml")
-    local = dataclasses.replace(read_record(ev / "VELLMOOR.cfg"), revision=2013, time_code="0")
-    rem = read_record(ev / "CARDON_REACH.cfg")
+    (vm, rem), _, model = _sample_pair()
+    local = dataclasses.replace(vm, revision=2013, time_code="0")
     ahead = dataclasses.replace(rem, revision=2013, time_code="+1",
                                 start=rem.start + timedelta(hours=1),
                                 trigger=rem.trigger + timedelta(hours=1))
@@ -857,14 +838,7 @@ def test_an_end_with_less_than_a_cycle_of_the_fault_is_not_located_from():
     # exists.  Located from it (before), simulated A-G, B-C and three-phase faults read
     # 5 to 20 % of the line off, with intervals that missed the truth; now that end is
     # left out and says why, and with the other record the location stands.
-    from eventlab.network.model import load_model
-    from eventlab.records import read_record
-
-    root = Path(__file__).parents[1]
-    ev = root / "sample_events" / "vm_cr1_bg"
-    truth = json.loads((ev / "truth.json").read_text())
-    model = load_model(root / "models" / "northmarch_230kv.toml")
-    recs = [read_record(ev / "VELLMOOR.cfg"), read_record(ev / "CARDON_REACH.cfg")]
+    recs, truth, model = _sample_pair()
     t_end = truth["inception_s"] + 0.8 / 60.0
     short = _ending_at(recs[1], t_end)
     alone = analyze([short], model=model)
