@@ -24,7 +24,12 @@ from eventlab import __version__
 from eventlab.errors import ChannelMapError, ModelError, SignalError
 from eventlab.locate.api import LocateOptions, LocationReport, locate_event
 from eventlab.locate.compare import ComparisonRow
-from eventlab.locate.consistency import check_pair, direction_check, has_prefault
+from eventlab.locate.consistency import (
+    check_pair,
+    direction_check,
+    has_prefault,
+    through_fault,
+)
 from eventlab.locate.inputs import from_fault_interval, with_remote_open
 from eventlab.locate.model_link import station_terminals
 from eventlab.records.model import Record, uniform_step
@@ -1177,6 +1182,14 @@ def _locate(records: Sequence[Record], terms: Sequence[TerminalAnalysis], model,
                             f"mix two states (the other end opening, or the fault changing; a "
                             f"three-phase fault does not say which) and the location from it "
                             f"may be off; the other end's record would tell")
+    if len(ends) == 2:
+        try:
+            outside = through_fault(model, tuple(ends), line)
+        except ModelError:
+            outside = None
+        if outside is not None:
+            warnings.append(f"location: not made: the fault is not on the line: {outside}")
+            return None
     unusable = [why or _unusable(e, kv) for e, kv, why in zip(ends, kvs, known, strict=True)]
     if all(u or sh for u, sh in zip(unusable, shorts, strict=True)):
         warnings.append("location: not made: " + "; ".join(

@@ -227,6 +227,39 @@ def _try(notes: list[str], label: str, fn, *args, **kwargs):
         return None
 
 
+#: the impedance methods this far beyond an end of the line [fraction of its length],
+#: with the fit stopped at that end and not matching the records, put the fault
+#: outside the line (a fault at the far bus itself reads within a few per cent and
+#: fits; common practice, no source)
+BEYOND_MARGIN = 0.05
+
+
+def _beyond_the_line(fit: ModelFitResult | None, methods: Sequence[LocatorEstimate],
+                     length: float, max_residual: float) -> str | None:
+    """Words for a fault that lies outside the line, or None.
+
+    All of: the model fit stopped at an end of the line (its bound), its
+    residual over ``max_residual`` times the measurement accuracy, and every
+    single-ended impedance method run (Takagi, modified Takagi, Eriksson)
+    beyond that end by more than :data:`BEYOND_MARGIN` of the line.
+    """
+    if fit is None or fit.chi2_scale <= max_residual:
+        return None
+    far = fit.fraction >= 1.0 - 1e-4
+    if not (far or fit.fraction <= 1e-4):
+        return None
+    judged = [m for m in methods if m.method in ("takagi", "modified_takagi", "eriksson")]
+    if not judged:
+        return None
+    lim = (1.0 + BEYOND_MARGIN) * length if far else -BEYOND_MARGIN * length
+    if not all((m.distance_km > lim) if far else (m.distance_km < lim) for m in judged):
+        return None
+    return (", ".join(f"{m.method} {m.distance_km:.1f} km" for m in judged)
+            + f" on the {length:g} km line; the model fit stops at its "
+              f"{'far' if far else 'near'} end, {fit.chi2_scale:.0f} times the measurement "
+              f"accuracy off the records")
+
+
 def locate_event(model: NetworkModel, ends: Sequence[TerminalPhasors], line: str | None = None,
                  options: LocateOptions | None = None) -> LocationReport:
     """Locate the fault from one or two line ends' phasors.
@@ -470,6 +503,12 @@ def locate_event(model: NetworkModel, ends: Sequence[TerminalPhasors], line: str
         notes.append(f"the stage with the other end open reads {radial.distance_km:.2f} km, "
                      f"outside the interval: a model error (the remote source, the line) or "
                      f"a fault that changed when the other end opened")
+    beyond = _beyond_the_line(fit, methods, length, opts.max_fit_residual_scale)
+    if beyond is not None:
+        raise SignalError(f"locate: the fault appears to lie beyond an end of line {line_id} "
+                          f"({beyond}): a fault outside this line (on the next line, or at "
+                          f"the far bus), or a model that is not this network's; no location "
+                          f"on this line is given")
     st = locate_structures(ld, best.distance_km, interval)
     return LocationReport(
         line_id=line_id, reference_terminal=ref_t.id, length_km=length, fault_type=code,

@@ -72,7 +72,7 @@ def source_impedance_seen(end: TerminalPhasors) -> complex | None:
     else:
         dv, di = abc_to_012(end.v_fault)[2], abc_to_012(end.i_fault)[2]
     i_max = float(np.max(np.abs(end.i_fault)))
-    if not (np.isfinite(di) and np.isfinite(dv)) or abs(di) < DIRECTION_MIN_CURRENT * i_max \
+    if not (np.isfinite(di) and np.isfinite(dv)) or not abs(di) > DIRECTION_MIN_CURRENT * i_max \
             or abs(dv) == 0.0:
         return None
     return complex(-dv / di)
@@ -182,6 +182,44 @@ def suspect_end(agreement: PrefaultAgreement, seen: tuple[complex | None, comple
     return 1 if remote_misfit < local_misfit else 0
 
 
+def pair_agreement(model, ends: tuple[TerminalPhasors, TerminalPhasors],
+                   line: str | None = None):
+    """``(pairing, PrefaultAgreement or None)`` of two ends on the model's line."""
+    from .model_link import line_from, pair_ends
+
+    pairing = pair_ends(model, ends, line)
+    local, remote = pairing.ends
+    return pairing, prefault_agreement(local, remote,
+                                       line_from(model, pairing.line_id, pairing.terminals[0]))
+
+
+def through_fault(model, ends: tuple[TerminalPhasors, TerminalPhasors],
+                  line: str | None = None) -> str | None:
+    """Words for a fault outside the line that both ends saw, or None.
+
+    One end reads the fault ahead, the other behind its bus
+    (:func:`direction_check`), and the two agree on the pre-fault power flow
+    (power-factor angle within 90 deg: neither CT set is reversed, which would
+    turn it by 180 deg): the fault current went through the line.  None when
+    the pre-fault current is too small to tell a reversed CT set from it.
+    """
+    seen = [direction_check(e) for e in ends]
+    rev = [d is not None and d[0] == "reverse" for d in seen]
+    fwd = [d is not None and d[0] == "forward" for d in seen]
+    if sum(rev) != 1 or sum(fwd) != 1:
+        return None
+    _, agreement = pair_agreement(model, ends, line)
+    if agreement is None or agreement.pf_angle_diff_deg is None \
+            or abs(agreement.pf_angle_diff_deg) >= 90.0:
+        return None
+    k = rev.index(True)
+    return (f"{ends[1 - k].station} sees the fault ahead (-dV/dI at {seen[1 - k][1]:+.0f} "
+            f"deg), {ends[k].station} behind its bus ({seen[k][1]:+.0f} deg), and the two "
+            f"records agree on the pre-fault power flow (power-factor angle "
+            f"{agreement.pf_angle_diff_deg:+.1f} deg apart, so no CT set is reversed): the "
+            f"fault current went through the line, to a fault beyond {ends[k].station}")
+
+
 def check_pair(model, ends: tuple[TerminalPhasors, TerminalPhasors],
                line: str | None = None) -> tuple[int | None, str | None]:
     """The two ends' pre-fault agreement on the model's line: ``(suspect, words)``.
@@ -194,12 +232,11 @@ def check_pair(model, ends: tuple[TerminalPhasors, TerminalPhasors],
     """
     from eventlab.errors import ModelError
 
-    from .model_link import external_two_port, line_from, pair_ends
+    from .model_link import external_two_port
 
-    pairing = pair_ends(model, ends, line)
+    pairing, agreement = pair_agreement(model, ends, line)
     local, remote = pairing.ends
-    t_local, t_remote = pairing.terminals
-    agreement = prefault_agreement(local, remote, line_from(model, pairing.line_id, t_local))
+    t_local = pairing.terminals[0]
     if agreement is None or agreement.agrees:
         return None, None
     try:

@@ -316,3 +316,59 @@ def test_recorders_with_other_rates_and_filters_are_turned_to_the_prefault_state
     assert abs(loc.distance_km - truth.distance_km) <= 0.005 * length
     sync = next(m for m in loc.methods if m.method == "two_ended_sync")
     assert abs(sync.distance_km - truth.distance_km) <= 0.005 * length
+
+
+def _through_model():
+    """VM - CR (L1, recorded at both ends) - HX (L2), sources at all three buses."""
+    from eventlab.network.model import model_from_dict
+
+    z = {"z1_ohm_per_km": [0.03, 0.38], "z0_ohm_per_km": [0.26, 1.15],
+         "c1_nf_per_km": 9.0, "c0_nf_per_km": 6.0}
+    return model_from_dict({
+        "system": {"name": "through-fault check (made up)", "frequency_hz": 60.0,
+                   "base_mva": 100.0},
+        "bus": [{"id": "VM", "kv": 230.0}, {"id": "CR", "kv": 230.0}, {"id": "HX", "kv": 230.0}],
+        "source": [{"bus": "VM", "z1_ohm": [0.9, 9.5], "z0_ohm": [1.6, 14.0]},
+                   {"bus": "HX", "z1_ohm": [2.5, 22.0], "z0_ohm": [3.5, 30.0],
+                    "angle_deg": -8.0},
+                   {"bus": "CR", "z1_ohm": [5.0, 50.0], "z0_ohm": [6.0, 60.0],
+                    "angle_deg": -4.0}],
+        "line": [{"id": "L1", "from": "VM", "to": "CR", "length_km": 60.0, **z},
+                 {"id": "L2", "from": "CR", "to": "HX", "length_km": 40.0, **z}],
+        "terminal": [{"id": "VM-L1", "line": "L1", "bus": "VM", "station": "VM"},
+                     {"id": "CR-L1", "line": "L1", "bus": "CR", "station": "CR"}],
+    }, source_name="<through>")
+
+
+@pytest.mark.parametrize("code", ["AG", "BC", "ABC"])
+def test_a_fault_beyond_the_line_is_not_located_on_it(code):
+    # The fault is 12 km into the next line (L2, beyond CR); L1's recorders saw it.
+    # Before: the answer was L1's far end, 60.00 km, with an interval of zero width
+    # (the fit stopped on its bound), from both records and from VM's alone.  Now:
+    # with both, VM sees the fault ahead and CR behind while the pre-fault power flow
+    # agrees (no reversed CT): not on this line; VM alone: its impedance methods read
+    # 80-84 km on the 60 km line and the fit stops at the end without matching.
+    from eventlab.analysis import analyze
+
+    model = _through_model()
+    sim = simulate(model, SimulationSpec(
+        line="L2", fraction=0.3, type=code, r_fault_ohm=1.0, inception_s=0.1,
+        clear_after_s=0.08, duration_s=0.25, samples_per_cycle=64, noise=0.001, seed=1,
+        anti_alias_hz=0.3 * 64 * 60.0))
+    recs = [sim.records["VM-L1"], sim.records["CR-L1"]]
+    both = analyze(recs, model=model, line="L1")
+    assert both.location is None
+    assert any("not on the line" in w and "beyond CR" in w for w in both.warnings)
+    alone = analyze(recs[:1], model=model, line="L1")
+    assert alone.location is None
+    assert any("beyond an end of line L1" in w for w in alone.warnings)
+    # a fault at L1's far end itself (on the line, at CR) is still located there, from
+    # both records and from VM's alone
+    bus = simulate(model, SimulationSpec(
+        line="L1", fraction=1.0, type=code, r_fault_ohm=1.0, inception_s=0.1,
+        clear_after_s=0.08, duration_s=0.25, samples_per_cycle=64, noise=0.001, seed=1,
+        anti_alias_hz=0.3 * 64 * 60.0))
+    at_bus = analyze([bus.records["VM-L1"], bus.records["CR-L1"]], model=model, line="L1")
+    assert abs(at_bus.location.distance_km - 60.0) <= 0.3
+    one = analyze([bus.records["VM-L1"]], model=model, line="L1")
+    assert abs(one.location.distance_km - 60.0) <= 0.6
