@@ -818,6 +818,11 @@ def analyze(records: Sequence[Record] | Record, model=None, line: str | None = N
             found = map_terminals(rec, cmap)
         f_first, tracked_any = None, False
         for term in found:
+            for ph in term.derived:
+                name = dict(zip(("IA", "IB", "IC"), term.currents, strict=True))[ph].name
+                warnings.append(f"record {k}: no {ph} channel: {ph} derived as {name} (two "
+                                f"phase CTs and the residual); the residual check on it is "
+                                f"void")
             odd = [f"{c.name} ({c.unit!r})" for c in (*term.voltages, *term.currents)
                    if c.unit not in ("V", "A")]
             if odd:

@@ -852,3 +852,15 @@ def test_an_end_with_less_than_a_cycle_of_the_fault_is_not_located_from():
     longer = analyze([_ending_at(recs[1], truth["inception_s"] + 1.5 / 60.0)], model=model)
     want = truth["distance_from_km"]["CARDON_REACH-VM-CR1"]
     assert abs(longer.location.distance_km - want) <= 0.01 * length
+
+
+def test_a_recorder_with_two_phase_cts_and_the_residual_still_locates():
+    import dataclasses
+
+    (vm, cr), truth, model = _sample_pair()
+    no_ib = dataclasses.replace(vm, analog=tuple(c for c in vm.analog if c.name != "IB"))
+    a = analyze([no_ib, cr], model=model)
+    assert any("IB derived as IB = IN - IA - IC" in w for w in a.warnings)
+    assert a.fault_type == truth["type"]
+    length = model.line(truth["line"]).length_km
+    assert abs(a.location.distance_km - truth["distance_km"]) <= 0.005 * length

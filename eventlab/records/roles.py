@@ -72,6 +72,8 @@ class TerminalChannels:
     parallel_residual: AnalogChannel | None = None
     trips: tuple[StatusChannel, ...] = ()
     breakers: tuple[StatusChannel, ...] = ()
+    # phase currents not recorded but derived (from the residual, ``derive_phase_current``)
+    derived: tuple[str, ...] = ()
 
     @property
     def v_abc(self) -> np.ndarray:
@@ -230,17 +232,22 @@ def _from_map(record: Record, channel_map: Mapping[str, str], label: str | None)
             raise ChannelMapError(f"{where}: channel map key {key!r} is not a role; expected "
                                   f"{', '.join(REQUIRED + OPTIONAL)}, TRIP..., BKR...")
     missing = [k for k in REQUIRED if k not in roles]
+    derived: tuple[str, ...] = ()
+    if len(missing) == 1 and missing[0] in ("IA", "IB", "IC") and "IN" in roles:
+        roles[missing[0]] = derive_phase_current(roles, missing[0])
+        derived, missing = (missing[0],), []
     if missing:
         raise ChannelMapError(f"{where}: channel map lacks {', '.join(missing)}; it gives "
                               f"{', '.join(sorted(roles)) or 'nothing'}")
-    lab = label if label is not None else roles["IA"].circuit.strip()
+    lab = label if label is not None else next(
+        roles[k] for k in ("IA", "IB", "IC") if k not in derived).circuit.strip()
     return TerminalChannels(
         label=lab, voltages=tuple(to_si(roles[k]) for k in ("VA", "VB", "VC")),
         currents=tuple(to_si(roles[k]) for k in ("IA", "IB", "IC")),
         neutral_current=to_si(roles["IN"]) if "IN" in roles else None,
         neutral_voltage=to_si(roles["VN"]) if "VN" in roles else None,
         parallel_residual=to_si(roles["IP"]) if "IP" in roles else None,
-        trips=tuple(trips), breakers=tuple(bkrs))
+        trips=tuple(trips), breakers=tuple(bkrs), derived=derived)
 
 
 def _lookup(channels, name, key, where, kind):
@@ -270,8 +277,15 @@ def _auto(record: Record) -> tuple[TerminalChannels, ...]:
         g.setdefault(role, ch)
     full_v = [g for g in order if all(k in groups[g] for k in ("VA", "VB", "VC"))]
     terminals = []
+    derived: dict[str, str] = {}
     for g in order:
         roles = groups[g]
+        missing = [k for k in ("IA", "IB", "IC") if k not in roles]
+        if len(missing) == 1 and "IN" in roles:
+            # two phase CTs and the residual (a common economy): the third phase is
+            # the residual less the other two
+            roles[missing[0]] = derive_phase_current(roles, missing[0])
+            derived[g] = missing[0]
         if not all(k in roles for k in ("IA", "IB", "IC")):
             continue
         vsrc = roles if all(k in roles for k in ("VA", "VB", "VC")) else (
@@ -316,8 +330,24 @@ def _auto(record: Record) -> tuple[TerminalChannels, ...]:
             neutral_current=to_si(roles["IN"]) if "IN" in roles else None,
             neutral_voltage=to_si(vsrc["VN"]) if "VN" in vsrc else None,
             parallel_residual=to_si(roles["IP"]) if "IP" in roles else None,
-            trips=tuple(status_by[g][0]), breakers=tuple(status_by[g][1])))
+            trips=tuple(status_by[g][0]), breakers=tuple(status_by[g][1]),
+            derived=(derived[g],) if g in derived else ()))
     return tuple(out)
+
+
+def derive_phase_current(roles: Mapping[str, AnalogChannel], phase: str) -> AnalogChannel:
+    """The phase current ``phase`` (``"IA"`` .. ``"IC"``) as ``IN`` less the other two [A].
+
+    For a recorder wired with two phase CTs and the residual (``IN = IA + IB +
+    IC``).  The channel is named ``"IB = IN - IA - IC"`` (for IB), in amperes.
+    """
+    others = [k for k in ("IA", "IB", "IC") if k != phase]
+    res = to_si(roles["IN"])
+    vals = res.values - sum(to_si(roles[k]).values for k in others)
+    vals = np.array(vals, dtype=float)
+    vals.setflags(write=False)
+    return replace(res, name=f"{phase} = {res.name} - {' - '.join(roles[k].name for k in others)}",
+                   phase=phase[1], values=vals)
 
 
 def channel_roles(record: Record, channel_map: Mapping[str, str] | None = None

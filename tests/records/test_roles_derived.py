@@ -1,0 +1,47 @@
+"""A phase current derived from the residual where a recorder has two phase CTs and IN."""
+
+from __future__ import annotations
+
+import dataclasses
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+from eventlab.errors import ChannelMapError
+from eventlab.records import read_record
+from eventlab.records.roles import map_terminals
+
+ROOT = Path(__file__).resolve().parents[2]
+
+
+def _record():
+    return read_record(ROOT / "sample_events" / "vm_cr1_bg" / "VELLMOOR.cfg")
+
+
+@pytest.mark.parametrize("gone", ["IA", "IB", "IC"])
+def test_the_missing_phase_is_the_residual_less_the_other_two(gone):
+    rec = _record()
+    full = map_terminals(rec)[0]
+    without = dataclasses.replace(rec, analog=tuple(c for c in rec.analog if c.name != gone))
+    (term,) = map_terminals(without)
+    assert term.derived == (gone,)
+    k = "ABC".index(gone[1])
+    # Kirchhoff: IA + IB + IC = IN, the recorded residual (the sample's channels carry
+    # their own noise and quantisation: they agree to about that)
+    got, want = term.currents[k].values, full.currents[k].values
+    assert np.max(np.abs(got - want)) < 0.01 * np.max(np.abs(want))
+    assert term.currents[k].name.startswith(f"{gone} = IN - ")
+    # by the model's channel map too
+    cmap = {r: r for r in ("VA", "VB", "VC", "IA", "IB", "IC", "IN") if r != gone}
+    (mapped,) = map_terminals(without, cmap)
+    assert mapped.derived == (gone,)
+    assert np.array_equal(mapped.currents[k].values, got)
+
+
+def test_two_missing_phases_are_not_derived():
+    rec = _record()
+    two_gone = dataclasses.replace(rec, analog=tuple(c for c in rec.analog
+                                                     if c.name not in ("IB", "IC")))
+    with pytest.raises(ChannelMapError, match="lacks IB IC"):
+        map_terminals(two_gone)
