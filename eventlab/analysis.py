@@ -449,9 +449,22 @@ def _terminal(record: Record, k_rec: int, term: TerminalChannels, n: int, fs: fl
     i_ph = dft_phasors(i, n, opts.filter)
     have_v = bool(np.abs(v).max() > 0)
 
+    v1_all = np.abs(sequence_phasors(v_ph)[1])
+    v1_live = float(np.max(v1_all[np.isfinite(v1_all)])) if have_v and np.any(
+        np.isfinite(v1_all)) else 0.0
+
     def freq(stop: int, ph) -> float | None:
-        """Frequency [Hz] from V1 over samples 0..stop (None if too short or no voltage)."""
+        """Frequency [Hz] from V1 over samples 0..stop (None if too short or no voltage).
+
+        None too where V1 there is under :data:`LIVE_VOLTAGE_RATIO` of the record's
+        largest: a dead line's trapped charge decaying on line-side VTs is no measure
+        of the system frequency.
+        """
         if not have_v or stop < 2 * n:
+            return None
+        seg = v1_all[n - 1:stop]
+        seg = seg[np.isfinite(seg)]
+        if not seg.size or not np.min(seg) >= LIVE_VOLTAGE_RATIO * v1_live:
             return None
         try:
             return frequency_from_phasor(sequence_phasors(ph[:, :stop])[1], fs, f0)
@@ -558,7 +571,14 @@ def _terminal(record: Record, k_rec: int, term: TerminalChannels, n: int, fs: fl
     v012p, i012p, v012f, i012f = (None if x is None else _ro(x)
                                   for x in (v012p, i012p, v012f, i012f))
     i_n = flt.get(term.neutral_current.name) if term.neutral_current is not None else None
-    if v012p is None and t.size >= n:
+    dead_start = _dead_at_start(v_ph, i_ph, n)
+    if dead_start is not None:
+        # the line was de-energised when the record began: its "pre-fault" is no state
+        # of the line in service, and the checks on it would read a blown VT fuse
+        checks = [f"{DEAD_START_FLAG} (positive-sequence voltage {100 * dead_start:.0f} % of "
+                  f"the record's largest, no current): what follows is the line being "
+                  f"energised, and a fault then has no pre-fault state of the line in service"]
+    elif v012p is None and t.size >= n:
         # no pre-fault window: the record's first full cycle stands for it (a standing
         # unbalance from a miswired CT makes the whole record look faulted)
         v_first, i_first = abc_to_012(v_ph[:, n - 1]), abc_to_012(i_ph[:, n - 1])
@@ -591,6 +611,40 @@ ACB_FLAG = "rotate A-C-B"
 #: words of the check that finds currents rotating A-C-B under A-B-C voltages (two
 #: CT phases swapped): that end is left out of the location
 CURRENT_ACB_FLAG = "currents run A-C-B"
+
+#: words of the flag for a record that begins with the line de-energised
+DEAD_START_FLAG = "the record begins with the line de-energised"
+#: currents under this fraction of the record's largest are none (a dead line)
+DEAD_CURRENT_RATIO = 0.02
+
+
+def _dead_at_start(v_ph, i_ph, n: int) -> float | None:
+    """V1 of the first full cycle over the record's largest, where the line starts dead.
+
+    Dead: that V1 under :data:`LIVE_VOLTAGE_RATIO` of the largest and every phase
+    current under :data:`DEAD_CURRENT_RATIO` of the largest (a fault at the record's
+    start depresses the voltage but drives current).  None otherwise.
+    """
+    if v_ph.shape[-1] < n:
+        return None
+    v1 = np.abs(sequence_phasors(v_ph)[1])
+    imag = np.abs(i_ph)
+    first_i = imag[:, n - 1]
+    if not (np.isfinite(v1[n - 1]) and np.all(np.isfinite(first_i))):
+        return None
+    v_max = float(np.max(v1[np.isfinite(v1)]))
+    i_max = float(np.max(imag[np.isfinite(imag)]))
+    first_v = float(v1[n - 1])
+    if not (v_max > 0 and first_v < LIVE_VOLTAGE_RATIO * v_max
+            and float(np.max(first_i)) <= DEAD_CURRENT_RATIO * i_max):
+        return None
+    return first_v / v_max
+
+
+#: a voltage under this fraction of the record's largest positive-sequence voltage is
+#: no live system voltage (a dead line's trapped charge, a de-energised bus); the
+#: frequency is not estimated from it (common practice, no source)
+LIVE_VOLTAGE_RATIO = 0.5
 
 #: Plausibility limits of :func:`measurement_checks` (common practice, no source):
 #: a healthy pre-fault system has unbalance well under these.
@@ -1156,7 +1210,12 @@ def _locate(records: Sequence[Record], terms: Sequence[TerminalAnalysis], model,
         known.append((off_freq or {}).get(k) or (
             "its pre-fault currents run A-C-B under A-B-C voltages (CT phases swapped or "
             "one reversed); a location needs the phase currents as the model has them"
-            if any(CURRENT_ACB_FLAG in f for f in ta.flags) else None))
+            if any(CURRENT_ACB_FLAG in f for f in ta.flags) else None) or (
+            "it begins with the line de-energised: a line energised onto a fault, which "
+            "eventlab does not locate yet (its methods and the model fit start from the "
+            "line in service before the fault); the record of the first trip, or the "
+            "other end's, locates it" if any(DEAD_START_FLAG in f for f in ta.flags)
+            else None))
         shorts.append(f"it holds less than a cycle of the fault ({iv.fault.note}): no "
                       f"phasor of the fault can be measured from it"
                       if iv.fault.flagged and iv.fault.note.startswith(SHORT_FAULT) else None)

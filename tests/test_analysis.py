@@ -864,3 +864,44 @@ def test_a_recorder_with_two_phase_cts_and_the_residual_still_locates():
     assert a.fault_type == truth["type"]
     length = model.line(truth["line"]).length_km
     assert abs(a.location.distance_km - truth["distance_km"]) <= 0.005 * length
+
+
+def _starting_at(rec, t0_s):
+    """The record from record time ``t0_s`` on (its start time moved with it)."""
+    import dataclasses
+    from datetime import timedelta
+
+    from eventlab.records.model import RateSegment
+
+    k = int(np.searchsorted(rec.time, t0_s))
+    return dataclasses.replace(
+        rec, time=rec.time[k:] - rec.time[k], rates=(RateSegment(rec.rates[0].samp_hz,
+                                                                 rec.time.size - k),),
+        start=rec.start + timedelta(seconds=float(rec.time[k])),
+        analog=tuple(dataclasses.replace(c, values=c.values[k:]) for c in rec.analog),
+        status=tuple(dataclasses.replace(c, values=c.values[k:]) for c in rec.status))
+
+
+def test_a_record_that_begins_with_the_line_dead_says_so_and_is_not_located():
+    # The bundled reclose-onto-a-permanent-fault event, cut to begin in the dead time:
+    # the line-side VTs hold only the decaying trapped charge.  Before: "signals run at
+    # 0.42 Hz against lf", a "blown VT fuse" and no location for those reasons.  Now the
+    # record says the line was de-energised, and the location is withheld for that.
+    from eventlab.network.model import load_model
+    from eventlab.records import read_record
+
+    root = Path(__file__).parents[1]
+    ev = root / "sample_events" / "vm_cr1_reclose"
+    model = load_model(root / "models" / "northmarch_230kv.toml")
+    truth = json.loads((ev / "truth.json").read_text())
+    t0 = 0.5 * (truth["clear_s"] + truth["reclose_s"])          # inside the dead time
+    rec = _starting_at(read_record(ev / "VELLMOOR.cfg"), t0)
+    a = analyze([rec], model=model)
+    assert any("begins with the line de-energised" in f for f in a.terminals[0].flags)
+    assert a.location is None
+    assert any("energised onto a fault" in w for w in a.warnings)
+    assert not any("run at" in w or "VT fuse" in w for w in a.warnings)
+    # the whole record, live before the first fault, is located as before
+    full = analyze([read_record(ev / "VELLMOOR.cfg")], model=model)
+    length = model.line(truth["line"]).length_km
+    assert abs(full.location.distance_km - truth["distance_km"]) <= 0.01 * length

@@ -94,8 +94,12 @@ def test_explicit_channel_map():
     (t,) = map_terminals(rec, cmap, label="VM-CR1")
     assert t.label == "VM-CR1" and t.neutral_current.name == "IE"
     assert t.roles()["TRIP1"] == "TRIP L1" and t.roles()["BKR1"] == "CB OPEN"
+    # without IC the map's residual IN gives it (two phase CTs and the residual) ...
+    (two_ct,) = map_terminals(rec, {k: v for k, v in cmap.items() if k != "IC"})
+    assert two_ct.derived == ("IC",)
+    # ... without IN too it is missing
     with pytest.raises(ChannelMapError, match="lacks IC"):
-        map_terminals(rec, {k: v for k, v in cmap.items() if k != "IC"})
+        map_terminals(rec, {k: v for k, v in cmap.items() if k not in ("IC", "IN")})
     with pytest.raises(ChannelMapError, match="'I9'.*the record has: U1, U2"):
         map_terminals(rec, dict(cmap, IA="I9"))
     with pytest.raises(ChannelMapError, match="not a role"):
