@@ -898,6 +898,11 @@ def test_a_record_that_begins_with_the_line_dead_says_so_and_is_not_located():
     rec = _starting_at(read_record(ev / "VELLMOOR.cfg"), t0)
     a = analyze([rec], model=model)
     assert any("begins with the line de-energised" in f for f in a.terminals[0].flags)
+    # the trapped charge's decay is no fault; the reclose onto the fault is (before: an
+    # "A-G fault" in the dead time was the record's first)
+    tl = a.terminals[0].timeline
+    assert tl.fault_type == truth["type"]
+    assert tl.inception_s + t0 == pytest.approx(truth["reclose_s"], abs=2e-3)
     assert a.location is None
     assert any("energised onto a fault" in w for w in a.warnings)
     assert not any("run at" in w or "VT fuse" in w for w in a.warnings)

@@ -37,6 +37,9 @@ ONSET_REL = 0.005        # delta above this fraction of the channel's local peak
 ONSET_SIGMAS = 5.0       # ... plus this many baseline standard deviations
 OPEN_REL = 0.03          # pole open: |i| below this fraction of the phase's fault peak
 NEG_ZERO_RATIO = 0.10    # |I2| or |I0| over max(|I1|, scale): unbalanced fault
+#: a fault interval whose fault-window currents are all under this fraction of the
+#: record's largest current phasor is no fault (a dead line's voltages changing)
+DEAD_LINE_CURRENT = 0.02
 #: the same for the change of I2 or I0 from the record's first cycle (a standing
 #: unbalance does not count): a 450-ohm A-G fault at 20 % of the 230 kV demo line
 #: gives 7 % at the far end, under NEG_ZERO_RATIO (common practice, no source)
@@ -808,8 +811,20 @@ def build_timeline(time_s, v_abc, i_abc, samples_per_cycle: int, *,
         return Timeline(None, None, None, None, None, None, _first_trip(edges, None),
                         (None, None, None), (), poles, edges, tuple(flags), NO_FAULT)
 
+    # a "fault" with no current (under DEAD_LINE_CURRENT of the record's largest current
+    # phasor) is a voltage change on a de-energised line (its trapped charge decaying on
+    # line-side VTs), not a fault: no fault on a line drives no current
+    i_mag = np.abs(i_ph)
+    i_top = float(np.max(i_mag[np.isfinite(i_mag)])) if np.any(np.isfinite(i_mag)) else 0.0
+    dead = [iv for iv in intervals if iv.type != NO_FAULT and i_top > 0
+            and float(np.max(np.abs(iv.i_fault))) < DEAD_LINE_CURRENT * i_top]
+    if dead:
+        flags.append("; ".join(f"a change of the voltages at {iv.start_s:.4f} s with no "
+                               f"current (a de-energised line's trapped charge?) is not taken "
+                               f"for a fault" for iv in dead))
     # drop "faults" that the classifier calls no fault (load change, switching)
-    real = [iv for iv in intervals if iv.type != NO_FAULT]
+    dead_ids = {id(iv) for iv in dead}
+    real = [iv for iv in intervals if iv.type != NO_FAULT and id(iv) not in dead_ids]
     if not real:
         flags.append("disturbance without a shunt fault: " +
                      "; ".join(f"{iv.start_s:.4f} s {iv.classification.reason}"
