@@ -49,7 +49,12 @@ from eventlab.signals.phasors import (
     window_phasor,
 )
 from eventlab.signals.sequence import sequence_phasors
-from eventlab.signals.timeline import Timeline, build_timeline, saturating_phases
+from eventlab.signals.timeline import (
+    Timeline,
+    build_timeline,
+    fed_from_one_end,
+    saturating_phases,
+)
 from eventlab.signals.windows import SHORT_FAULT
 from eventlab.symmetrical import abc_to_012
 from eventlab.units import polar_deg
@@ -447,6 +452,22 @@ def _terminal(record: Record, k_rec: int, term: TerminalChannels, n: int, fs: fl
                             else np.asarray(c.values, dtype=float)) for c in extra_ch}
     v_ph = dft_phasors(v, n, opts.filter)
     i_ph = dft_phasors(i, n, opts.filter)
+    # a record that begins with the line de-energised: until current first flows the
+    # line-side VTs hold only the trapped charge decaying, no system state (it would
+    # read as faults and a VT circuit fault); it is set to zero up to the energisation,
+    # and a terminal that never carries current (an open end) has no fault
+    i_rated = _rated_current(term)
+    dead_start = _dead_at_start(v_ph, i_ph, n, i_rated)
+    min_fault_a = 0.0
+    if dead_start is not None:
+        i_abs = np.max(np.abs(np.nan_to_num(i)), axis=0)
+        i_ref = max(float(i_abs.max()), i_rated or 0.0)
+        min_fault_a = DEAD_CURRENT_RATIO * i_ref
+        on = np.flatnonzero(i_abs > min_fault_a * np.sqrt(2.0))
+        if on.size:
+            v = np.array(v, dtype=float)
+            v[:, :on[0]] = 0.0
+            v_ph = dft_phasors(v, n, opts.filter)
     have_v = bool(np.abs(v).max() > 0)
 
     v1_all = np.abs(sequence_phasors(v_ph)[1])
@@ -494,7 +515,8 @@ def _terminal(record: Record, k_rec: int, term: TerminalChannels, n: int, fs: fl
             f_used = f_est
     tl = build_timeline(t, v, i, n, trips=trips, breakers=bkrs, v_ph=v_ph, i_ph=i_ph,
                         mitigate_offset=opts.mitigate_offset, tau_s=opts.tau_s,
-                        cycle_samples=None if f_used is None else fs / f_used)
+                        cycle_samples=None if f_used is None else fs / f_used,
+                        min_fault_current_a=min_fault_a)
     # 2. the estimate from the whole pre-fault part (whole record without a fault); the
     #    tracked phasors are referred to the nominal reference, so their rotation still
     #    measures f - f0
@@ -509,7 +531,7 @@ def _terminal(record: Record, k_rec: int, term: TerminalChannels, n: int, fs: fl
         f_used = f_est
         tl = build_timeline(t, v, i, n, trips=trips, breakers=bkrs, v_ph=v_ph, i_ph=i_ph,
                             mitigate_offset=opts.mitigate_offset, tau_s=opts.tau_s,
-                            cycle_samples=fs / f_used)
+                            cycle_samples=fs / f_used, min_fault_current_a=min_fault_a)
     tracked = f_used is not None
     roles = term.roles()
     names_v = [c.name for c in term.voltages]
@@ -571,7 +593,6 @@ def _terminal(record: Record, k_rec: int, term: TerminalChannels, n: int, fs: fl
     v012p, i012p, v012f, i012f = (None if x is None else _ro(x)
                                   for x in (v012p, i012p, v012f, i012f))
     i_n = flt.get(term.neutral_current.name) if term.neutral_current is not None else None
-    dead_start = _dead_at_start(v_ph, i_ph, n)
     if dead_start is not None:
         # the line was de-energised when the record began: its "pre-fault" is no state
         # of the line in service, and the checks on it would read a blown VT fuse
@@ -618,12 +639,21 @@ DEAD_START_FLAG = "the record begins with the line de-energised"
 DEAD_CURRENT_RATIO = 0.02
 
 
-def _dead_at_start(v_ph, i_ph, n: int) -> float | None:
+def _rated_current(term: TerminalChannels) -> float | None:
+    """The largest CT primary rating of a terminal's phase currents [A], or None."""
+    rated = [c.primary for c in term.currents
+             if c.secondary > 0 and c.primary > c.secondary and np.isfinite(c.primary)]
+    return float(max(rated)) if rated else None
+
+
+def _dead_at_start(v_ph, i_ph, n: int, i_rated: float | None = None) -> float | None:
     """V1 of the first full cycle over the record's largest, where the line starts dead.
 
-    Dead: that V1 under :data:`LIVE_VOLTAGE_RATIO` of the largest and every phase
-    current under :data:`DEAD_CURRENT_RATIO` of the largest (a fault at the record's
-    start depresses the voltage but drives current).  None otherwise.
+    Dead: that V1 under :data:`LIVE_VOLTAGE_RATIO` of the largest, and every phase
+    current under :data:`DEAD_CURRENT_RATIO` of the largest or, where the CT rating
+    ``i_rated`` [A] is known, of that (an open end's CT carries nothing the whole
+    record); a fault at the record's start depresses the voltage but drives current.
+    None otherwise.
     """
     if v_ph.shape[-1] < n:
         return None
@@ -635,8 +665,9 @@ def _dead_at_start(v_ph, i_ph, n: int) -> float | None:
     v_max = float(np.max(v1[np.isfinite(v1)]))
     i_max = float(np.max(imag[np.isfinite(imag)]))
     first_v = float(v1[n - 1])
+    i_ref = max(i_max, i_rated or 0.0)
     if not (v_max > 0 and first_v < LIVE_VOLTAGE_RATIO * v_max
-            and float(np.max(first_i)) <= DEAD_CURRENT_RATIO * i_max):
+            and float(np.max(first_i)) <= DEAD_CURRENT_RATIO * i_ref):
         return None
     return first_v / v_max
 
@@ -1137,6 +1168,14 @@ def _unusable(end, kv_nominal: float | None = None) -> str | None:
             return (f"no {kind} recorded in phase{'s' if len(dead) > 1 else ''} "
                     f"{', '.join(dead)} (empty, missing or dead channel); a location needs "
                     f"the three phase {kind}s")
+    if end.energised:
+        # no pre-fault state in service to check: the line was dead before the fault
+        seen = direction_check(end)
+        if seen is not None and seen[0] == "reverse":
+            return (f"its currents read the fault behind the bus (negative-sequence -dV/dI "
+                    f"at {seen[1]:+.0f} deg): the CT polarity reversed, or the fault is not "
+                    f"on this line")
+        return None
     vp = np.abs(end.v_pre)
     if vp.max() > 0 and vp.min() < DEAD_VT_RATIO * vp.max():
         p = "ABC"[int(np.argmin(vp))]
@@ -1207,26 +1246,39 @@ def _locate(records: Sequence[Record], terms: Sequence[TerminalAnalysis], model,
             kvs.append(None if mt is None else model.bus(mt.bus).kv)
         except ModelError:
             kvs.append(None)
+        # a line energised onto the fault from this end, the other end open (its sound
+        # phases carry the open line's charging only): located as the stage fed from
+        # this end alone
+        dead_start = any(DEAD_START_FLAG in f for f in ta.flags)
+        # the other end's record says whether it closed too: it carries the fault's
+        # current (an interval of its own) or, beginning dead as well, none at all
+        others = [t for t in terms if t.record != k]
+        other_closed = any(t.timeline.intervals for t in others)
+        other_open = bool(others) and not other_closed and all(
+            any(DEAD_START_FLAG in f for f in t.flags) for t in others)
+        energised = dead_start and not other_closed and (
+            other_open or fed_from_one_end(iv.i_fault, iv.v_fault, iv.type) is not None)
         known.append((off_freq or {}).get(k) or (
             "its pre-fault currents run A-C-B under A-B-C voltages (CT phases swapped or "
             "one reversed); a location needs the phase currents as the model has them"
             if any(CURRENT_ACB_FLAG in f for f in ta.flags) else None) or (
-            "it begins with the line de-energised: a line energised onto a fault, which "
-            "eventlab does not locate yet (its methods and the model fit start from the "
-            "line in service before the fault); the record of the first trip, or the "
-            "other end's, locates it" if any(DEAD_START_FLAG in f for f in ta.flags)
-            else None))
+            "it begins with the line de-energised and the fault is not fed from this end "
+            "alone (both ends closed onto it, or a three-phase fault, which does not show "
+            "it): eventlab's methods and the model fit start from the line in service "
+            "before the fault; the record of the first trip, or the other end's, locates it"
+            if dead_start and not energised else None))
         shorts.append(f"it holds less than a cycle of the fault ({iv.fault.note}): no "
                       f"phasor of the fault can be measured from it"
                       if iv.fault.flagged and iv.fault.note.startswith(SHORT_FAULT) else None)
         sources.append((rec, ta))
         ip_name = ta.channels.get("IP")
         i_par = ta.fault.get(ip_name) if ip_name is not None else None
-        ends.append(from_fault_interval(
+        end = from_fault_interval(
             iv, station=rec.station, frequency_hz=rec.frequency_hz,
             terminal_id=mt.id if mt is not None else None, record_start=rec.start,
             time0_s=0.0, samples_per_cycle=spc.get(k),
-            i_parallel_residual=None if i_par is None or not np.isfinite(i_par) else i_par))
+            i_parallel_residual=None if i_par is None or not np.isfinite(i_par) else i_par)
+        ends.append(replace(end, energised=True) if energised else end)
     if not ends:
         warnings.append("location: no fault in the records, nothing to locate")
         return None

@@ -882,11 +882,15 @@ def _starting_at(rec, t0_s):
         status=tuple(dataclasses.replace(c, values=c.values[k:]) for c in rec.status))
 
 
-def test_a_record_that_begins_with_the_line_dead_says_so_and_is_not_located():
-    # The bundled reclose-onto-a-permanent-fault event, cut to begin in the dead time:
-    # the line-side VTs hold only the decaying trapped charge.  Before: "signals run at
-    # 0.42 Hz against lf", a "blown VT fuse" and no location for those reasons.  Now the
-    # record says the line was de-energised, and the location is withheld for that.
+def test_a_record_that_begins_with_the_line_dead_says_so():
+    # The bundled reclose-onto-a-permanent-fault event (both ends reclose together), cut
+    # to begin in the dead time: the line-side VTs hold only the decaying trapped charge.
+    # Before: "signals run at 0.42 Hz against lf", a "blown VT fuse", an A-G fault in
+    # the dead time, no location.  Now the record says the line was de-energised and
+    # finds the reclose onto the B-G fault.  With both records (both ends carry the
+    # fault's current) no location is made: the methods start from the line in service.
+    # One record alone cannot tell that the other end closed too and is located as the
+    # fault fed from its end alone (within 0.2 % here: a low-resistance fault).
     from eventlab.network.model import load_model
     from eventlab.records import read_record
 
@@ -895,18 +899,21 @@ def test_a_record_that_begins_with_the_line_dead_says_so_and_is_not_located():
     model = load_model(root / "models" / "northmarch_230kv.toml")
     truth = json.loads((ev / "truth.json").read_text())
     t0 = 0.5 * (truth["clear_s"] + truth["reclose_s"])          # inside the dead time
-    rec = _starting_at(read_record(ev / "VELLMOOR.cfg"), t0)
-    a = analyze([rec], model=model)
-    assert any("begins with the line de-energised" in f for f in a.terminals[0].flags)
-    # the trapped charge's decay is no fault; the reclose onto the fault is (before: an
-    # "A-G fault" in the dead time was the record's first)
-    tl = a.terminals[0].timeline
-    assert tl.fault_type == truth["type"]
-    assert tl.inception_s + t0 == pytest.approx(truth["reclose_s"], abs=2e-3)
-    assert a.location is None
-    assert any("energised onto a fault" in w for w in a.warnings)
+    recs = [_starting_at(read_record(ev / f"{s}.cfg"), t0) for s in ("VELLMOOR",
+                                                                     "CARDON_REACH")]
+    a = analyze(recs, model=model)
+    for t in a.terminals:
+        assert any("begins with the line de-energised" in f for f in t.flags)
+        assert t.timeline.fault_type == truth["type"]
+        assert t.timeline.inception_s + t0 == pytest.approx(truth["reclose_s"], abs=2e-3)
     assert not any("run at" in w or "VT fuse" in w for w in a.warnings)
+    assert a.location is None
+    assert any("both ends closed onto it" in w for w in a.warnings)
+    alone = analyze(recs[:1], model=model).location
+    length = model.line(truth["line"]).length_km
+    assert alone.best.method == "radial_stage"
+    assert abs(alone.distance_km - truth["distance_km"]) <= 0.002 * length
+    assert any("energised from" in n for n in alone.notes)
     # the whole record, live before the first fault, is located as before
     full = analyze([read_record(ev / "VELLMOOR.cfg")], model=model)
-    length = model.line(truth["line"]).length_km
     assert abs(full.location.distance_km - truth["distance_km"]) <= 0.01 * length

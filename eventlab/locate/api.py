@@ -16,6 +16,7 @@ from .compare import Comparison, compare
 from .consistency import prefault_agreement
 from .estimate import LocatorEstimate
 from .inputs import TerminalPhasors
+from .line import LineData
 from .model_fit import CT_CLASSES, VT_CLASSES, FitOptions, ModelFitResult, fit_fault
 from .model_link import (
     distribution_angle,
@@ -227,6 +228,56 @@ def _try(notes: list[str], label: str, fn, *args, **kwargs):
         return None
 
 
+def _radial_interval(radial: LocatorEstimate, code: str, length: float, opts: LocateOptions):
+    """``(interval, parts, assumption)`` of a ``radial_stage`` answer: line tolerances only."""
+    sigma = math.hypot(opts.fit.z0_tolerance if code.endswith("G") else 0.0,
+                       opts.fit.z1_tolerance) * radial.distance_km / 2
+    k = opts.fit.coverage_factor
+    interval = (max(0.0, radial.distance_km - k * sigma),
+                min(length, radial.distance_km + k * sigma))
+    words = (f"stage with the other end open: interval +/- {k:g} sigma from the line "
+             f"impedance tolerances (Z1 {opts.fit.z1_tolerance:.0%}"
+             + (f", Z0 {opts.fit.z0_tolerance:.0%}" if code.endswith("G") else "")
+             + ", as two sigma, on the distance)")
+    return interval, {"line_z": sigma}, words
+
+
+def _locate_energised(model: NetworkModel, pairing, ld: LineData, opts: LocateOptions,
+                      notes: list[str]) -> LocationReport:
+    """A line energised from its one recorded end onto a fault (switch onto fault).
+
+    The other end is open and the line was dead before: the fault-window
+    phasors are the fault fed from this end alone, located by ``radial_stage``
+    (the open line's charging taken off, no sources, no pre-fault state); the
+    simple reactance method beside it.  No model fit and no comparison: they
+    start from the line in service before the fault.
+    """
+    end, t = pairing.ends[0], pairing.terminals[0]
+    code = end.fault_type
+    stage = replace(end, v_remote_open=end.v_fault, i_remote_open=end.i_fault)
+    methods = [m for m in (_try(notes, "reactance", reactance, end, ld),
+                           _try(notes, "radial_stage", radial_stage, stage, ld))
+               if m is not None]
+    radial = next((m for m in methods if m.method == "radial_stage"), None)
+    if radial is None:
+        raise SignalError(f"locate: the line energised onto the fault from {t.id}: the stage "
+                          f"fed from that end gives no location; " + "; ".join(notes))
+    interval, parts, words = _radial_interval(radial, code, ld.length_km, opts)
+    notes.append(f"the line was energised from {t.id} onto the fault (the record begins with "
+                 f"it de-energised, the other end open): located from the fault fed from "
+                 f"this end alone (radial_stage); no model fit or comparison, which start "
+                 f"from the line in service")
+    return LocationReport(
+        line_id=pairing.line_id, reference_terminal=t.id, length_km=ld.length_km,
+        fault_type=code, best=radial, interval_km=(float(interval[0]), float(interval[1])),
+        methods=tuple(methods), fit=None,
+        structures=locate_structures(ld, radial.distance_km, interval), comparison=None,
+        sync=None, uncertainty_km={k: float(v) for k, v in parts.items()},
+        assumptions=("the line's other end open: the fault current is this end's current "
+                     "less the open line's charging (the model's line, distributed)", words),
+        notes=tuple(notes))
+
+
 #: the impedance methods this far beyond an end of the line [fraction of its length],
 #: with the fit stopped at that end and not matching the records, put the fault
 #: outside the line (a fault at the far bus itself reads within a few per cent and
@@ -304,6 +355,12 @@ def locate_event(model: NetworkModel, ends: Sequence[TerminalPhasors], line: str
                      f"{code} from {ref_end.station} used")
         ends = (ends[0], _with_type(ends[1], code))
     methods: list[LocatorEstimate] = []
+    if ref_end.energised:
+        if len(ends) > 1:
+            notes.append(f"{ends[1].station} not used: the line was energised from "
+                         f"{ref_end.station} onto the fault, the other end open")
+        return _locate_energised(model, replace(pairing, ends=ends[:1], terminals=terms[:1],
+                                                how=pairing.how[:1]), ld, opts, notes)
 
     # single-ended methods on the reference end
     for fn in (reactance, takagi):
@@ -478,16 +535,8 @@ def locate_event(model: NetworkModel, ends: Sequence[TerminalPhasors], line: str
                            + (", clock alignment" if two.method == "two_ended_sync" else ""))
     elif radial is not None:
         best = radial
-        sigma = math.hypot(opts.fit.z0_tolerance if code.endswith("G") else 0.0,
-                           opts.fit.z1_tolerance) * best.distance_km / 2
-        k = opts.fit.coverage_factor
-        interval = (max(0.0, best.distance_km - k * sigma),
-                    min(length, best.distance_km + k * sigma))
-        parts = {"line_z": sigma}
-        assumptions.append(f"stage with the other end open: interval +/- {k:g} sigma from "
-                           f"the line impedance tolerances (Z1 {opts.fit.z1_tolerance:.0%}"
-                           + (f", Z0 {opts.fit.z0_tolerance:.0%}" if code.endswith("G") else "")
-                           + ", as two sigma, on the distance)")
+        interval, parts, words = _radial_interval(radial, code, length, opts)
+        assumptions.append(words)
     elif mt is not None or methods:
         best = mt or methods[-1]
         half = 0.05 * length

@@ -77,6 +77,10 @@ class TerminalPhasors:
     remote_open_in_window : bool
         The other end opened inside the fault window
         (:attr:`eventlab.signals.timeline.RemoteOpenStage.in_fault_window`).
+    energised : bool
+        The line was energised from this end onto the fault (the record
+        begins with it de-energised, the other end open): located by
+        ``radial_stage`` on the fault window alone.
     """
 
     terminal_id: str | None
@@ -98,6 +102,10 @@ class TerminalPhasors:
     i_remote_open: np.ndarray | None = field(default=None, compare=False)
     remote_open_start_s: float | None = field(default=None, compare=False)
     remote_open_in_window: bool = field(default=False, compare=False)
+    # the line was de-energised before this fault: energised from this end onto it
+    # (switch onto fault), the other end open; the fault-window phasors are then the
+    # stage fed from this end alone and there is no pre-fault state in service
+    energised: bool = field(default=False, compare=False)
 
     def __post_init__(self) -> None:
         for name in ("v_pre", "i_pre", "v_fault", "i_fault"):

@@ -145,6 +145,10 @@ class SimulationSpec:
         Fault code the fault becomes ``evolve_after_s`` [s] after inception.
     reclose_after_s : float, optional
         Dead time [s] from the last pole opening to the reclose of both ends.
+    reclose_ends : {"both", "from", "to"}
+        Which ends reclose: both together, or only the line's ``from`` or
+        ``to`` end (the leader of leader-follower reclosing; the follower stays
+        open, as it does when the leader trips again onto a permanent fault).
     permanent : bool
         Whether the fault is still there at reclose (then the line trips again).
     single_pole : bool
@@ -214,6 +218,7 @@ class SimulationSpec:
     evolve_to: str | None = None
     evolve_after_s: float = 0.0
     reclose_after_s: float | None = None
+    reclose_ends: str = "both"
     permanent: bool = True
     single_pole: bool = False
     remote_delay_s: float = 0.0
@@ -266,6 +271,9 @@ class SimulationSpec:
         if self.clear_after_s is not None and not (self.clear_after_s >= self.relay_time_s):
             raise ValueError(f"clear_after_s ({self.clear_after_s}) must be >= relay_time_s "
                              f"({self.relay_time_s})")
+        if self.reclose_ends not in ("both", "from", "to"):
+            raise ValueError(f"reclose_ends must be both, from or to, got "
+                             f"{self.reclose_ends!r}")
         if self.reclose_after_s is not None and not self.reclose_after_s > 0:
             raise ValueError(f"reclose_after_s must be positive, got {self.reclose_after_s!r}")
         if not (isinstance(self.samples_per_cycle, int) and 8 <= self.samples_per_cycle <= 1024):
@@ -807,10 +815,13 @@ def simulate(model: NetworkModel, spec: SimulationSpec) -> SimulationResult:
         seq[0] += 1
         events.append((max(int(round(t_s / dt)), 1), seq[0], kind, payload))
 
-    def protection(t0_s: float) -> None:
-        """Trip and open commands from ``t0_s``, the ``to`` end ``remote_delay_s`` apart."""
-        groups = [(0.0, None)]
-        if spec.remote_delay_s != 0.0:
+    def protection(t0_s: float, only: tuple[str, ...] | None = None) -> None:
+        """Trip and open commands from ``t0_s``, the ``to`` end ``remote_delay_s`` apart.
+
+        ``only``: the breakers that trip (after a reclose by one end, that end's).
+        """
+        groups = [(0.0, only)]
+        if spec.remote_delay_s != 0.0 and only is None:
             far = tuple(k for k in lay.faulted_breakers if k.split("@", 1)[1] == fline.to_bus)
             near = tuple(k for k in lay.faulted_breakers if k not in far)
             groups = [(0.0, near), (spec.remote_delay_s, far)]
@@ -836,6 +847,7 @@ def simulate(model: NetworkModel, spec: SimulationSpec) -> SimulationResult:
     opened: dict[str, list[list[float | None]]] = {k: [] for k in lay.faulted_breakers}
     fault_slot = -1
     reclose_s = None
+    reclosed: set[str] = set()          # breakers that reclosed
     evolve_s = None
     clear_s = None
 
@@ -914,10 +926,14 @@ def simulate(model: NetworkModel, spec: SimulationSpec) -> SimulationResult:
             elif kind == "close":
                 reclose_s = now_s
                 for k in lay.faulted_breakers:
+                    if not _recloses(k, fline, spec.reclose_ends):
+                        continue
+                    reclosed.add(k)
                     pole_closed[k] = [True, True, True]
                     changes[lay.breakers[k]] = breaker_state(k)
                 if spec.permanent and fault_slot >= 0:
-                    protection(now_s)
+                    protection(now_s, None if spec.reclose_ends == "both"
+                               else tuple(sorted(reclosed)))
             elif kind == "load":
                 for g in lay.load_groups:
                     changes[g] = (True, True, True)
@@ -963,7 +979,8 @@ def simulate(model: NetworkModel, spec: SimulationSpec) -> SimulationResult:
         if spec.adc_bits is not None:
             v_sec = _adc(v_sec, adc_full_scale(vt[1], "V", spec.adc_bits)[0], spec.adc_bits)
             i_sec = _adc(i_sec, adc_full_scale(ct[1], "A", spec.adc_bits)[0], spec.adc_bits)
-        status = _status_waveforms(t_rec, key, trip_on, trip_off, opened, reclose_s)
+        status = _status_waveforms(t_rec, key, trip_on, trip_off, opened,
+                                   reclose_s if key in reclosed else None)
         records[t.id] = _make_record(model, t, spec, t_rec, v_sec * vt_n, i_sec * ct_n,
                                      vt, ct, status, trigger_s)
 
@@ -1055,6 +1072,14 @@ def _fault_changes(lay: _Layout, slot: int) -> dict[str, tuple[bool, ...]]:
         if gg:
             ch[gg] = (k == slot,)
     return ch
+
+
+def _recloses(key: str, line: Line, ends: str) -> bool:
+    """Whether the breaker ``key`` (``"line@bus"``) recloses with ``reclose_ends``."""
+    if ends == "both" or not key.startswith(f"{line.id}@"):
+        return True
+    bus = key.split("@", 1)[1]
+    return bus == (line.from_bus if ends == "from" else line.to_bus)
 
 
 def _status_waveforms(t_rec, key, trip_on, trip_off, opened, reclose_s):

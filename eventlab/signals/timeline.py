@@ -648,7 +648,8 @@ def build_timeline(time_s, v_abc, i_abc, samples_per_cycle: int, *,
                    trips: Sequence = (), breakers: Sequence = (),
                    v_ph=None, i_ph=None, mitigate_offset: bool = True,
                    tau_s: float | None = None,
-                   cycle_samples: float | None = None) -> Timeline:
+                   cycle_samples: float | None = None,
+                   min_fault_current_a: float = 0.0) -> Timeline:
     """Timeline, windows and classification of one terminal.
 
     Parameters
@@ -672,6 +673,10 @@ def build_timeline(time_s, v_abc, i_abc, samples_per_cycle: int, *,
     cycle_samples : float, optional
         Actual cycle length [samples] (``fs / f``) for the superimposed
         quantities when the frequency is off nominal (with tracked phasors).
+    min_fault_current_a : float
+        A fault interval whose fault-window currents all stay under this [A]
+        (and under :data:`DEAD_LINE_CURRENT` of the record's largest) is no
+        fault: e.g. an open end's CT, given by the caller from its rating.
 
     Returns
     -------
@@ -717,10 +722,12 @@ def build_timeline(time_s, v_abc, i_abc, samples_per_cycle: int, *,
     # live[k]: some pole carries current
     live = np.zeros(n_t, dtype=bool)
     for p in range(3):
-        st = np.ones(n_t, dtype=bool)
-        for e in poles:
-            if e.phase == PHASES[p]:
-                st[e.index:] = e.kind == "close"
+        mine = [e for e in poles if e.phase == PHASES[p]]
+        # a pole whose first event is a close was open before it (a record that begins
+        # with the line de-energised)
+        st = np.full(n_t, not (mine and mine[0].kind == "close"), dtype=bool)
+        for e in mine:
+            st[e.index:] = e.kind == "close"
         live |= st
     # phasor noise: E|X|^2 = 2 sigma^2 / N for white noise of std sigma; eight times that
     noise_ph_a = 8.0 * float(noise_i.max()) * np.sqrt(2.0 / n)
@@ -816,8 +823,9 @@ def build_timeline(time_s, v_abc, i_abc, samples_per_cycle: int, *,
     # line-side VTs), not a fault: no fault on a line drives no current
     i_mag = np.abs(i_ph)
     i_top = float(np.max(i_mag[np.isfinite(i_mag)])) if np.any(np.isfinite(i_mag)) else 0.0
-    dead = [iv for iv in intervals if iv.type != NO_FAULT and i_top > 0
-            and float(np.max(np.abs(iv.i_fault))) < DEAD_LINE_CURRENT * i_top]
+    i_least = max(DEAD_LINE_CURRENT * i_top, float(min_fault_current_a))
+    dead = [iv for iv in intervals if iv.type != NO_FAULT and i_least > 0
+            and float(np.max(np.abs(iv.i_fault))) < i_least]
     if dead:
         flags.append("; ".join(f"a change of the voltages at {iv.start_s:.4f} s with no "
                                f"current (a de-energised line's trapped charge?) is not taken "

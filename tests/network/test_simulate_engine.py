@@ -357,6 +357,27 @@ def test_reclose_onto_permanent_fault_trips_again():
     assert np.abs(ib[again]).max() > 0.5 * np.abs(ib).max()
 
 
+def test_leader_recloses_alone_onto_a_permanent_fault():
+    # reclose_ends="from": only the line's from end (W) recloses, trips again; the other
+    # end's breaker stays open (its status and its current) and its TRIP stays down
+    result = _simple_result(reclose_after_s=0.1, duration_s=0.45, inception_angle_deg=None,
+                            reclose_ends="from")
+    truth = result.truth
+    far = [k for k in result.records if k != "W-L1"][0]
+    assert len(truth.trip_s["W-L1"]) == 2 and len(truth.trip_s[far]) == 1
+    assert len(truth.pole_open_s["W-L1"]) == 2 and len(truth.pole_open_s[far]) == 1
+    rec = result.records[far]
+    after = rec.time > truth.reclose_s + 0.005
+    assert not rec.status_by_name("52A-A").values[after].any()
+    assert np.abs(rec.analog_by_name("IB").values[after]).max() < 0.02 * np.abs(
+        rec.analog_by_name("IB").values).max()
+    near = result.records["W-L1"]
+    assert near.status_by_name("52A-A").values[(near.time > truth.reclose_s + 0.002)
+                                               & (near.time < truth.reclose_s + 0.02)].all()
+    with pytest.raises(ValueError, match="reclose_ends"):
+        _simple_result(reclose_after_s=0.1, reclose_ends="middle")
+
+
 def test_single_pole_trip_and_reclose():
     # temporary A-G fault: pole A opens at both ends, B and C stay closed and
     # keep carrying load; after the dead time pole A recloses and the line is
