@@ -52,6 +52,10 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
                         help="inception to the evolution [s] (default 0.03)")
     parser.add_argument("--reclose-after", type=float, default=None, metavar="S",
                         help="dead time before both ends reclose [s]")
+    parser.add_argument("--reclose-ends", choices=("both", "from", "to"), default="both",
+                        help="with --reclose-after: both ends reclose together (default), "
+                             "or only the line's from or to end (the leader; the follower "
+                             "stays open)")
     parser.add_argument("--temporary", action="store_true",
                         help="the fault is gone at reclose (default: permanent)")
     parser.add_argument("--single-pole", action="store_true",
@@ -118,6 +122,7 @@ def run(args: argparse.Namespace) -> int:
             duration_s=args.duration, samples_per_cycle=args.rate, noise=args.noise,
             seed=args.seed, ct_saturation=ct, evolve_to=args.evolve_to,
             evolve_after_s=args.evolve_after, reclose_after_s=args.reclose_after,
+            reclose_ends=args.reclose_ends,
             permanent=not args.temporary, single_pole=args.single_pole,
             frequency_hz=args.frequency, vt_side=args.vt_side,
             anti_alias_hz=args.anti_alias, adc_bits=args.adc_bits,
