@@ -54,6 +54,8 @@ _ANALOG_TOKEN = re.compile(
     r"|(?P<q>[VUI])(?:PH)?(?P<ph>L1|L2|L3|AN|BN|CN|AG|BG|CG|A|B|C|N|G|R|E))$")
 _PARALLEL_WORD = re.compile(r"PARALLEL|MUTUAL|\bPAR\b")
 _NOISE = frozenset({"PH", "PHASE", "PAR", "PARALLEL", "MUTUAL"})
+#: names of line-to-line voltage channels (VAB, U12, V_BC, UL1L2 ...)
+_LINE_TO_LINE = re.compile(r"(?:^|[^A-Z])[VU]_?(?:AB|BC|CA|L1L2|L2L3|L3L1|12|23|31)(?:[^A-Z0-9]|$)")
 _TRIP = re.compile(r"TRIP|TRP|(?:^|[^0-9])94(?:[^0-9]|$)")
 _BREAKER = re.compile(r"52\s*[AB]?|(?:^|[^A-Z])CB(?:[^A-Z]|$)|BKR|BRK|BREAKER|\bCB")
 REQUIRED = ("VA", "VB", "VC", "IA", "IB", "IC")
@@ -301,10 +303,15 @@ def _auto(record: Record) -> tuple[TerminalChannels, ...]:
             miss = [k for k in REQUIRED if k not in groups[g]]
             if miss:
                 want.append(f"{g or '(no circuit)'} lacks {' '.join(miss)}")
+        delta = [ch.name for ch in record.analog if _LINE_TO_LINE.search(ch.name.upper())
+                 and quantity(ch) == "V"]
         raise ChannelMapError(f"{where}: no line terminal with VA VB VC IA IB IC; found "
                               f"{found}" + (f"; {', '.join(want)}" if want else "")
                               + (" (several voltage sets, none of them the terminal's own)"
-                                 if len(full_v) > 1 else ""))
+                                 if len(full_v) > 1 else "")
+                              + (f" (the record's {', '.join(delta)} look line-to-line: "
+                                 f"eventlab needs the phase-to-ground voltages)"
+                                 if delta else ""))
     labels = [g for g, _, _ in terminals]
     status_by = {lab: ([], []) for lab in labels}
     for ch in record.status:

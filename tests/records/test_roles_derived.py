@@ -45,3 +45,20 @@ def test_two_missing_phases_are_not_derived():
                                                      if c.name not in ("IB", "IC")))
     with pytest.raises(ChannelMapError, match="lacks IB IC"):
         map_terminals(two_gone)
+
+
+def test_line_to_line_voltages_are_named_in_the_error():
+    rec = _record()
+    by = {c.name: c for c in rec.analog}
+    pairs = {"VA": ("VAB", "VB"), "VB": ("VBC", "VC"), "VC": ("VCA", "VA")}
+    analog = tuple(
+        dataclasses.replace(c, name=pairs[c.name][0], phase="",
+                            values=c.values - by[pairs[c.name][1]].values)
+        if c.name in pairs else c for c in rec.analog)
+    with pytest.raises(ChannelMapError, match="VAB, VBC, VCA look line-to-line"):
+        map_terminals(dataclasses.replace(rec, analog=analog))
+    # phase-to-ground channels are not named so
+    with pytest.raises(ChannelMapError) as err:
+        map_terminals(dataclasses.replace(rec, analog=tuple(c for c in rec.analog
+                                                            if c.name != "VA")))
+    assert "line-to-line" not in str(err.value)
