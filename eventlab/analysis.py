@@ -22,6 +22,7 @@ import numpy as np
 
 from eventlab import __version__
 from eventlab.errors import ChannelMapError, ModelError, SignalError
+from eventlab.faulttypes import involves_ground
 from eventlab.locate.api import LocateOptions, LocationReport, locate_event
 from eventlab.locate.compare import ComparisonRow
 from eventlab.locate.consistency import (
@@ -545,6 +546,9 @@ def _terminal(record: Record, k_rec: int, term: TerminalChannels, n: int, fs: fl
     v012p = i012p = v012f = i012f = None
     peak = None
     flags = list(tl.flags)
+    if "VA" in term.derived:
+        flags.append(f"{V0_UNKNOWN_FLAG}: the phase voltages are derived from line-to-line "
+                     f"channels with no zero sequence")
     if tl.intervals:
         iv = tl.intervals[0]
         cls = iv.classification
@@ -633,6 +637,8 @@ ACB_FLAG = "rotate A-C-B"
 #: CT phases swapped): that end is left out of the location
 CURRENT_ACB_FLAG = "currents run A-C-B"
 
+#: words of the flag for a terminal whose voltages are line-to-line only
+V0_UNKNOWN_FLAG = "V0 not measured"
 #: words of the flag for a record that begins with the line de-energised
 DEAD_START_FLAG = "the record begins with the line de-energised"
 #: currents under this fraction of the record's largest are none (a dead line)
@@ -903,11 +909,18 @@ def analyze(records: Sequence[Record] | Record, model=None, line: str | None = N
             found = map_terminals(rec, cmap)
         f_first, tracked_any = None, False
         for term in found:
+            named = dict(zip(("VA", "VB", "VC", "IA", "IB", "IC"),
+                             (*term.voltages, *term.currents), strict=True))
             for ph in term.derived:
-                name = dict(zip(("IA", "IB", "IC"), term.currents, strict=True))[ph].name
-                warnings.append(f"record {k}: no {ph} channel: {ph} derived as {name} (two "
-                                f"phase CTs and the residual); the residual check on it is "
-                                f"void")
+                if ph.startswith("I"):
+                    warnings.append(f"record {k}: no {ph} channel: {ph} derived as "
+                                    f"{named[ph].name} (two phase CTs and the residual); the "
+                                    f"residual check on it is void")
+            if "VA" in term.derived:
+                warnings.append(f"record {k}: line-to-line voltages only: phase voltages "
+                                f"derived as {', '.join(named[p].name for p in ('VA', 'VB', 'VC'))}"
+                                f" with no zero sequence (V0 is not measured): ground faults "
+                                f"are not located from this record")
             odd = [f"{c.name} ({c.unit!r})" for c in (*term.voltages, *term.currents)
                    if c.unit not in ("V", "A")]
             if odd:
@@ -1266,7 +1279,11 @@ def _locate(records: Sequence[Record], terms: Sequence[TerminalAnalysis], model,
             "alone (both ends closed onto it, or a three-phase fault, which does not show "
             "it): eventlab's methods and the model fit start from the line in service "
             "before the fault; the record of the first trip, or the other end's, locates it"
-            if dead_start and not energised else None))
+            if dead_start and not energised else None) or (
+            "its voltages are line-to-line only (V0 is not measured), and a ground "
+            "fault's location needs the zero-sequence voltage"
+            if involves_ground(iv.type) and any(V0_UNKNOWN_FLAG in f for f in ta.flags)
+            else None))
         shorts.append(f"it holds less than a cycle of the fault ({iv.fault.note}): no "
                       f"phasor of the fault can be measured from it"
                       if iv.fault.flagged and iv.fault.note.startswith(SHORT_FAULT) else None)
@@ -1336,7 +1353,15 @@ def _locate(records: Sequence[Record], terms: Sequence[TerminalAnalysis], model,
                 why = disagreement
         if late is not None:
             bad, good = ends[late], ends[1 - late]
-            first_t = model_terms.get(0) if late == 0 else None
+            first_t = None
+            if late == 0:
+                # the first record's terminal, whether or not its channels were mapped
+                # by the model's channel map
+                try:
+                    first_t = model_terms.get(0) or model_terminal(model, records[0], line,
+                                                                   opts.terminals.get(0))
+                except ModelError:
+                    first_t = None
             tail = (f"; located from {good.station} alone"
                     + ("" if first_t is None else f", distances given from {first_t.id}"))
             warnings.append(

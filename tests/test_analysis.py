@@ -917,3 +917,35 @@ def test_a_record_that_begins_with_the_line_dead_says_so():
     # the whole record, live before the first fault, is located as before
     full = analyze([read_record(ev / "VELLMOOR.cfg")], model=model)
     assert abs(full.location.distance_km - truth["distance_km"]) <= 0.01 * length
+
+
+@pytest.mark.parametrize("folder", ["vm_cr1_bc", "vm_cr1_abc", "vm_cr1_bg"])
+def test_a_recorder_with_line_to_line_voltages_locates_phase_faults(folder):
+    # VAB, VBC, VCA only (V-connected VTs): the phase voltages are known but for their
+    # zero sequence.  Phase faults do not need it and locate as before (measured within
+    # 0.02 % of the line); a ground fault does, so that end is left out and the other
+    # record, with phase-to-ground VTs, locates it.
+    from comtrade_cases import line_to_line_record
+
+    from eventlab.network.model import load_model
+    from eventlab.records import read_record
+
+    root = Path(__file__).parents[1]
+    ev = root / "sample_events" / folder
+    truth = json.loads((ev / "truth.json").read_text())
+    model = load_model(root / "models" / "northmarch_230kv.toml")
+    length = model.line(truth["line"]).length_km
+    vm, cr = read_record(ev / "VELLMOOR.cfg"), read_record(ev / "CARDON_REACH.cfg")
+    ll = line_to_line_record(vm)
+    alone = analyze([ll], model=model)
+    assert any("line-to-line voltages only" in w for w in alone.warnings)
+    assert alone.fault_type == truth["type"]
+    both = analyze([ll, cr], model=model)
+    want = truth["distance_from_km"]["VELLMOOR-VM-CR1"]
+    assert abs(both.location.distance_km - want) <= 0.005 * length
+    if truth["type"].endswith("G"):
+        assert alone.location is None
+        assert any("V0 is not measured" in w and "VELLMOOR not used" in w
+                   for w in both.warnings)
+    else:
+        assert abs(alone.location.distance_km - want) <= 0.005 * length

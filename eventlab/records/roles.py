@@ -55,7 +55,10 @@ _ANALOG_TOKEN = re.compile(
 _PARALLEL_WORD = re.compile(r"PARALLEL|MUTUAL|\bPAR\b")
 _NOISE = frozenset({"PH", "PHASE", "PAR", "PARALLEL", "MUTUAL"})
 #: names of line-to-line voltage channels (VAB, U12, V_BC, UL1L2 ...)
-_LINE_TO_LINE = re.compile(r"(?:^|[^A-Z])[VU]_?(?:AB|BC|CA|L1L2|L2L3|L3L1|12|23|31)(?:[^A-Z0-9]|$)")
+_LINE_TO_LINE = re.compile(r"(?:^|[^A-Z])[VU]_?(?P<pair>AB|BC|CA|L1L2|L2L3|L3L1|12|23|31)"
+                           r"(?:[^A-Z0-9]|$)")
+_PAIRS = {"AB": "AB", "BC": "BC", "CA": "CA", "L1L2": "AB", "L2L3": "BC", "L3L1": "CA",
+          "12": "AB", "23": "BC", "31": "CA"}
 _TRIP = re.compile(r"TRIP|TRP|(?:^|[^0-9])94(?:[^0-9]|$)")
 _BREAKER = re.compile(r"52\s*[AB]?|(?:^|[^A-Z])CB(?:[^A-Z]|$)|BKR|BRK|BREAKER|\bCB")
 REQUIRED = ("VA", "VB", "VC", "IA", "IB", "IC")
@@ -278,8 +281,18 @@ def _auto(record: Record) -> tuple[TerminalChannels, ...]:
             order.append(group)
         g.setdefault(role, ch)
     full_v = [g for g in order if all(k in groups[g] for k in ("VA", "VB", "VC"))]
+    derived: dict[str, tuple[str, ...]] = {}
+    if not full_v:
+        # line-to-line VTs only (VAB, VBC, VCA): phase-to-ground voltages without their
+        # zero sequence; they serve every circuit of the record, as a bus VT set does
+        ll = phase_voltages_from_line_to_line(record.analog)
+        if ll is not None:
+            groups.setdefault("", {})
+            if "" not in order:
+                order.append("")
+            groups[""].update(dict(zip(("VA", "VB", "VC"), ll, strict=True)))
+            full_v = [""]
     terminals = []
-    derived: dict[str, str] = {}
     for g in order:
         roles = groups[g]
         missing = [k for k in ("IA", "IB", "IC") if k not in roles]
@@ -287,7 +300,7 @@ def _auto(record: Record) -> tuple[TerminalChannels, ...]:
             # two phase CTs and the residual (a common economy): the third phase is
             # the residual less the other two
             roles[missing[0]] = derive_phase_current(roles, missing[0])
-            derived[g] = missing[0]
+            derived[g] = (missing[0],)
         if not all(k in roles for k in ("IA", "IB", "IC")):
             continue
         vsrc = roles if all(k in roles for k in ("VA", "VB", "VC")) else (
@@ -338,7 +351,43 @@ def _auto(record: Record) -> tuple[TerminalChannels, ...]:
             neutral_voltage=to_si(vsrc["VN"]) if "VN" in vsrc else None,
             parallel_residual=to_si(roles["IP"]) if "IP" in roles else None,
             trips=tuple(status_by[g][0]), breakers=tuple(status_by[g][1]),
-            derived=(derived[g],) if g in derived else ()))
+            derived=derived.get(g, ()) + (("VA", "VB", "VC") if vsrc["VA"].name.startswith(
+                "VA = ") else ())))
+    return tuple(out)
+
+
+def phase_voltages_from_line_to_line(channels) -> tuple[AnalogChannel, ...] | None:
+    """VA, VB, VC [V] from line-to-line voltage channels, their zero sequence unknown.
+
+    Three channels named VAB, VBC, VCA (or U12, V_L1L2 ...), or two of them (the
+    third is minus their sum), in a voltage unit.  ``VA = (VAB - VCA) / 3`` and
+    the like: the phase-to-ground set whose zero sequence is nought and whose
+    differences are the line-to-line voltages (Fortescue: line-to-line
+    quantities hold no zero sequence).  Named ``"VA = (VAB - VCA)/3"``; None
+    when fewer than two are found.
+    """
+    found: dict[str, AnalogChannel] = {}
+    for ch in channels:
+        m = _LINE_TO_LINE.search(ch.name.upper())
+        if m and quantity(ch) == "V":
+            found.setdefault(_PAIRS[m.group("pair")], to_si(ch))
+    if len(found) < 2:
+        return None
+    vals = {k: np.asarray(c.values, dtype=float) for k, c in found.items()}
+    for k, (a, b) in {"AB": ("BC", "CA"), "BC": ("CA", "AB"), "CA": ("AB", "BC")}.items():
+        if k not in vals:
+            vals[k] = -(vals[a] + vals[b])
+    names = {k: (found[k].name if k in found else f"-({found[a].name} + {found[b].name})")
+             for k, (a, b) in {"AB": ("BC", "CA"), "BC": ("CA", "AB"),
+                               "CA": ("AB", "BC")}.items()}
+    base = next(iter(found.values()))
+    out = []
+    for ph, plus, minus in (("A", "AB", "CA"), ("B", "BC", "AB"), ("C", "CA", "BC")):
+        v = (vals[plus] - vals[minus]) / 3.0
+        v.setflags(write=False)
+        out.append(replace(found.get(plus, base), name=f"V{ph} = ({names[plus]} - "
+                                                        f"{names[minus]})/3",
+                           phase=ph, values=v))
     return tuple(out)
 
 

@@ -63,3 +63,24 @@ def assert_matches_reference(record, ref) -> None:
     if record.start is not None:
         assert record.start == ref.start_timestamp
         assert record.trigger == ref.trigger_timestamp
+
+
+def line_to_line_record(rec, keep=("VAB", "VBC", "VCA")):
+    """``rec`` with its VA VB VC channels turned into the line-to-line VAB VBC VCA.
+
+    Only the names in ``keep`` are kept (a recorder with two of them).
+    """
+    import dataclasses
+
+    by = {c.name: c for c in rec.analog}
+    pairs = {"VA": ("VAB", "VB"), "VB": ("VBC", "VC"), "VC": ("VCA", "VA")}
+    out = []
+    for c in rec.analog:
+        if c.name in pairs:
+            name, other = pairs[c.name]
+            if name in keep:
+                out.append(dataclasses.replace(c, name=name, phase="",
+                                               values=c.values - by[other].values))
+        else:
+            out.append(c)
+    return dataclasses.replace(rec, analog=tuple(out))

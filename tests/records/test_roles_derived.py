@@ -7,6 +7,7 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from comtrade_cases import line_to_line_record
 
 from eventlab.errors import ChannelMapError
 from eventlab.records import read_record
@@ -47,18 +48,28 @@ def test_two_missing_phases_are_not_derived():
         map_terminals(two_gone)
 
 
-def test_line_to_line_voltages_are_named_in_the_error():
+@pytest.mark.parametrize("keep", [("VAB", "VBC", "VCA"), ("VAB", "VBC"), ("VBC", "VCA")])
+def test_phase_voltages_from_line_to_line_channels(keep):
+    # line-to-line quantities hold no zero sequence (Fortescue): the derived set is the
+    # phase-to-ground one less its V0, and its differences are the recorded channels
     rec = _record()
-    by = {c.name: c for c in rec.analog}
-    pairs = {"VA": ("VAB", "VB"), "VB": ("VBC", "VC"), "VC": ("VCA", "VA")}
-    analog = tuple(
-        dataclasses.replace(c, name=pairs[c.name][0], phase="",
-                            values=c.values - by[pairs[c.name][1]].values)
-        if c.name in pairs else c for c in rec.analog)
-    with pytest.raises(ChannelMapError, match="VAB, VBC, VCA look line-to-line"):
-        map_terminals(dataclasses.replace(rec, analog=analog))
+    (full,) = map_terminals(rec)
+    (term,) = map_terminals(line_to_line_record(rec, keep))
+    assert term.derived == ("VA", "VB", "VC")
+    v = term.v_abc
+    v_true = full.v_abc
+    v0 = v_true.mean(axis=0)
+    assert np.max(np.abs(v - (v_true - v0))) < 1e-6 * np.max(np.abs(v_true))
+    assert np.max(np.abs(v.sum(axis=0))) < 1e-6 * np.max(np.abs(v_true))
+    assert term.voltages[0].name.startswith("VA = (")
+
+
+def test_one_line_to_line_voltage_is_named_in_the_error():
+    rec = line_to_line_record(_record(), keep=("VAB",))
+    with pytest.raises(ChannelMapError, match="VAB look line-to-line"):
+        map_terminals(rec)
     # phase-to-ground channels are not named so
     with pytest.raises(ChannelMapError) as err:
-        map_terminals(dataclasses.replace(rec, analog=tuple(c for c in rec.analog
-                                                            if c.name != "VA")))
+        map_terminals(dataclasses.replace(_record(), analog=tuple(
+            c for c in _record().analog if c.name != "VA")))
     assert "line-to-line" not in str(err.value)
