@@ -430,6 +430,8 @@ def channel_roles(record: Record, channel_map: Mapping[str, str] | None = None
             if ch is not None:
                 pairs.append((role, ch))
         for role, ch in pairs:
+            if role in t.derived:
+                continue        # computed from other channels, not a channel of the record
             k = a_pos.get(ch.index)
             if k is not None and not a_roles[k]:
                 a_roles[k] = f"{t.label} {role}" if many and t.label else role

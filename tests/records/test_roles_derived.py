@@ -73,3 +73,15 @@ def test_one_line_to_line_voltage_is_named_in_the_error():
         map_terminals(dataclasses.replace(_record(), analog=tuple(
             c for c in _record().analog if c.name != "VA")))
     assert "line-to-line" not in str(err.value)
+
+
+def test_derived_quantities_are_not_shown_as_roles_of_record_channels():
+    from eventlab.records.roles import channel_roles
+
+    rec = _record()
+    no_ib = dataclasses.replace(rec, analog=tuple(c for c in rec.analog if c.name != "IB"))
+    roles = dict(zip((c.name for c in no_ib.analog), channel_roles(no_ib)[0], strict=True))
+    assert roles["IN"] == "IN" and "IB" not in roles.values()
+    ll = line_to_line_record(rec)
+    roles = dict(zip((c.name for c in ll.analog), channel_roles(ll)[0], strict=True))
+    assert roles["VAB"] == "" and roles["IA"] == "IA"
