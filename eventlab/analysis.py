@@ -613,9 +613,9 @@ def _terminal(record: Record, k_rec: int, term: TerminalChannels, n: int, fs: fl
             mag = np.abs(i_ph[:, n - 1:]).max(axis=0)
             i_scale = abc_to_012(i_ph[:, n - 1 + int(np.argmax(np.where(np.isfinite(mag),
                                                                           mag, -1.0)))])
-        checks = measurement_checks(v_first, i_first, i_scale, i_n)
+        checks = measurement_checks(v_first, i_first, i_scale, i_n, i_rated)
     else:
-        checks = measurement_checks(v012p, i012p, i012f, i_n)
+        checks = measurement_checks(v012p, i012p, i012f, i_n, i_rated)
     if tl.intervals:
         iv0 = tl.intervals[0]
         checks += saturation_checks(iv0.i_fault, iv0.i_distortion, tuple(names_i))
@@ -690,7 +690,8 @@ PREFAULT_V_UNBALANCE_LIMIT = 0.1   # |V0| or |V2| over |V1|, pre-fault
 RESIDUAL_MISMATCH_LIMIT = 0.1      # |IN - 3 I0| over max(|3 I0|, 5 % of |I1|), fault window
 
 
-def measurement_checks(v012_pre, i012_pre, i012_fault=None, i_n_fault=None) -> list[str]:
+def measurement_checks(v012_pre, i012_pre, i012_fault=None, i_n_fault=None,
+                       i_rated_a: float | None = None) -> list[str]:
     """Plain-words flags for measurements that do not look like a healthy terminal.
 
     Parameters
@@ -701,6 +702,9 @@ def measurement_checks(v012_pre, i012_pre, i012_fault=None, i_n_fault=None) -> l
         Fault-window sequence currents [A].
     i_n_fault : complex, optional
         Fault-window phasor of a measured neutral (residual) current [A].
+    i_rated_a : float, optional
+        The CT's rated primary current [A]: the A-C-B current check's noise gate
+        is then 2 % of it where that is less than 2 % of the fault current.
 
     Returns
     -------
@@ -730,7 +734,10 @@ def measurement_checks(v012_pre, i012_pre, i012_fault=None, i_n_fault=None) -> l
     if i012_pre is not None and i012_fault is not None:
         i0, i1, i2 = (abs(complex(x)) for x in i012_pre)
         i_scale = max(abs(complex(x)) for x in i012_fault)
-        if v_abc_order and i2 > max(i1, 0.02 * i_scale, 1e-9):
+        # the noise gate: 2 % of the fault current, or of the CT's rating where it is
+        # known (a close-in fault's current would hide a load of a few hundred amperes)
+        gate = 0.02 * (i_scale if i_rated_a is None else min(i_scale, i_rated_a))
+        if v_abc_order and i2 > max(i1, gate, 1e-9):
             # two phases swapped: |I2| = |I|, I1 = I0 = 0; one phase reversed:
             # |I2| = |I0| = 2 |I1|
             what = ("one phase's CT polarity or wiring reversed" if i0 > 0.3 * i2
@@ -1227,6 +1234,32 @@ def _locate(records: Sequence[Record], terms: Sequence[TerminalAnalysis], model,
             line: str | None, model_terms: Mapping[int, Any], spc: Mapping[int, int],
             opts: AnalysisOptions, warnings: list[str],
             off_freq: Mapping[int, str] | None = None):
+    """:func:`_locate_ends`, with distances from the first record's terminal.
+
+    Where the first record shows no fault (a miswired CT can hide it) and another
+    record locates, the report is given from the first record's terminal, and a
+    warning says so.
+    """
+    rep = _locate_ends(records, terms, model, line, model_terms, spc, opts, warnings,
+                       off_freq)
+    if rep is None or any(t.record == 0 and t.timeline.intervals for t in terms):
+        return rep
+    try:
+        first = model_terms.get(0) or model_terminal(model, records[0], line,
+                                                     opts.terminals.get(0))
+    except ModelError:
+        first = None
+    if first is None or first.line != rep.line_id or first.id == rep.reference_terminal:
+        return rep
+    warnings.append(f"location: {records[0].station} shows no fault of its own: located from "
+                    f"the other record, distances given from {first.id}")
+    return rep.seen_from(model, first.id)
+
+
+def _locate_ends(records: Sequence[Record], terms: Sequence[TerminalAnalysis], model,
+                 line: str | None, model_terms: Mapping[int, Any], spc: Mapping[int, int],
+                 opts: AnalysisOptions, warnings: list[str],
+                 off_freq: Mapping[int, str] | None = None):
     """Fault location from the first fault interval of each record's faulted terminal.
 
     One end per record (the first terminal of the record that holds a fault),
@@ -1380,7 +1413,19 @@ def _locate(records: Sequence[Record], terms: Sequence[TerminalAnalysis], model,
                     warnings.append(f"location: not made ({exc})")
                     return None
     try:
-        return locate_event(model, ends, line=line, options=opts.locate)
+        rep = locate_event(model, ends, line=line, options=opts.locate)
+        chi = None if rep.fit is None else rep.fit.chi2_scale
+        if len(ends) == 2 and chi is not None and chi > opts.locate.max_fit_residual_scale:
+            # the model cannot match both records: one end's instrument transformers (a
+            # ratio the pre-fault state cannot show at light load) or the model; neither
+            # the fit nor a two-ended method can be trusted to hold the fault
+            warnings.append(f"location: the two records and the model do not agree (the "
+                            f"fit's residual is {chi:.0f} times the measurement accuracy): "
+                            f"a CT or VT ratio or wiring at one end, or the model, "
+                            f"suspected; the interval is widened to hold each record's own "
+                            f"answer")
+            return _widened_by_each_end(model, ends, line, opts, warnings)
+        return rep
     except (ModelError, SignalError) as exc:
         if len(ends) < 2:
             warnings.append(f"location: not made ({exc})")

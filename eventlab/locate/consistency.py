@@ -159,8 +159,8 @@ def suspect_end(agreement: PrefaultAgreement, seen: tuple[complex | None, comple
     acts the other way round on ``v_ratio``.  The end whose apparent source
     impedance accounts for the mismatch, with the other end's near the
     model's, is the suspect: its explanation's misfit (in log ratio) must be
-    under half of the mismatch's own, and the other explanation's larger by at
-    least as much (an unmodelled tap load or model sources off by as much as
+    under a quarter of the mismatch's own, and the other explanation's larger
+    by at least half of it (an unmodelled tap load or model sources off by as much as
     the mismatch blame neither end).
     """
     if any(z is None or z == 0 for z in (*seen, *model_z)):
@@ -177,7 +177,7 @@ def suspect_end(agreement: PrefaultAgreement, seen: tuple[complex | None, comple
     remote_misfit = abs(r[1] - sign * k) + abs(r[0])
     local_misfit = abs(r[0] + sign * k) + abs(r[1])
     best, other = sorted((remote_misfit, local_misfit))
-    if best > 0.5 * abs(k) or other - best < 0.5 * abs(k):
+    if best > 0.25 * abs(k) or other - best < 0.5 * abs(k):
         return None
     return 1 if remote_misfit < local_misfit else 0
 

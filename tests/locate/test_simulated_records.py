@@ -423,3 +423,88 @@ def test_switch_onto_fault_from_the_leader_is_located(code, fraction, rf):
         assert any("three-phase fault" in w for w in alone.warnings)
     else:
         assert abs(alone.location.distance_km - sim.truth.distance_km) <= 0.002 * length
+
+
+def _scaled_currents(rec, k):
+    import dataclasses
+
+    return dataclasses.replace(rec, analog=tuple(
+        dataclasses.replace(c, values=c.values * k) if c.name in ("IA", "IB", "IC", "IN")
+        else c for c in rec.analog))
+
+
+def test_a_ct_ratio_error_at_light_load_widens_the_interval():
+    # The line carries only its charging before the fault (30 A, under 2 % of the fault
+    # current: the pre-fault agreement cannot judge the currents) and CARDON REACH's CTs
+    # read 1.6 times the current.  The model fits both records 10 times worse than the
+    # measurement accuracy.  Before: a two-ended answer 10 km off with an interval of
+    # 1.4 km, no warning (found by a sweep of spoilt records).  Now the warning says the
+    # records and the model disagree and the interval holds each record's own answer.
+    from eventlab.analysis import analyze
+    from eventlab.network.model import with_source
+
+    model = load_model(ROOT / "models" / "northmarch_230kv.toml")
+    truth = with_source(model, "CARDON_REACH", angle_deg=-0.5, emf_pu=1.02)
+    ids = [t.id for t in model.terminals_of_line("VM-CR1")]
+    sim = simulate(truth, SimulationSpec(
+        line="VM-CR1", fraction=0.55, type="BC", r_fault_ohm=2.0, inception_s=0.1,
+        clear_after_s=0.08, duration_s=0.25, samples_per_cycle=32, noise=0.001, seed=3,
+        anti_alias_hz=0.3 * 32 * 60.0))
+    recs = [sim.records[ids[0]], _scaled_currents(sim.records[ids[1]], 1.6)]
+    a = analyze(recs, model=model)
+    assert any("the two records and the model do not agree" in w for w in a.warnings)
+    lo, hi = a.location.interval_km
+    assert lo <= sim.truth.distance_km <= hi
+    assert any("widened" in n for n in a.location.notes)
+
+
+def test_the_first_record_without_a_fault_still_gives_the_distances():
+    # VELLMOOR's record ends before the fault (it shows none); CARDON REACH's locates,
+    # and the distances are given from VELLMOOR's terminal, the first record's, as the
+    # JSON contract says (before: from CARDON REACH's, without a word)
+    import dataclasses
+
+    import numpy as np
+
+    from eventlab.analysis import analyze
+    from eventlab.records.model import RateSegment
+
+    model = load_model(ROOT / "models" / "northmarch_230kv.toml")
+    ids = [t.id for t in model.terminals_of_line("VM-CR1")]
+    sim = simulate(model, SimulationSpec(
+        line="VM-CR1", fraction=0.3, type="CG", r_fault_ohm=4.0, inception_s=0.1,
+        clear_after_s=0.08, duration_s=0.25, samples_per_cycle=32, noise=0.001, seed=3,
+        anti_alias_hz=0.3 * 32 * 60.0))
+    vm = sim.records[ids[0]]
+    k = int(np.searchsorted(vm.time, 0.09))
+    early = dataclasses.replace(
+        vm, time=vm.time[:k], rates=(RateSegment(vm.rates[0].samp_hz, k),),
+        analog=tuple(dataclasses.replace(c, values=c.values[:k]) for c in vm.analog),
+        status=tuple(dataclasses.replace(c, values=c.values[:k]) for c in vm.status))
+    a = analyze([early, sim.records[ids[1]]], model=model)
+    assert a.location.reference_terminal == ids[0]
+    assert abs(a.location.distance_km - sim.truth.distance_from_km[ids[0]]) <= 0.5
+    assert any("shows no fault of its own" in w for w in a.warnings)
+
+
+def test_a_reversed_phase_ct_is_found_beside_a_close_in_fault():
+    # a close-in three-phase fault's 20 kA hid the A-C-B load currents (2 % of the
+    # fault current gated the check); 2 % of the CT rating (1200 A) does not
+    import dataclasses
+
+    from eventlab.analysis import analyze
+
+    model = load_model(ROOT / "models" / "northmarch_230kv.toml")
+    ids = [t.id for t in model.terminals_of_line("VM-CR1")]
+    sim = simulate(model, SimulationSpec(
+        line="VM-CR1", fraction=0.057, type="ABC", r_fault_ohm=2.9, inception_s=0.1,
+        clear_after_s=0.08, duration_s=0.25, samples_per_cycle=64, noise=0.001, seed=3,
+        anti_alias_hz=0.3 * 64 * 60.0))
+    vm = sim.records[ids[0]]
+    bad = dataclasses.replace(vm, analog=tuple(
+        dataclasses.replace(c, values=-c.values) if c.name == "IA" else c for c in vm.analog))
+    a = analyze([bad, sim.records[ids[1]]], model=model)
+    assert any("one phase's CT polarity or wiring reversed" in w for w in a.warnings)
+    assert any(w.startswith("location: VELLMOOR not used") for w in a.warnings)
+    assert a.location.reference_terminal == ids[0]
+    assert abs(a.location.distance_km - sim.truth.distance_from_km[ids[0]]) <= 0.3
