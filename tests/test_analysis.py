@@ -2,9 +2,7 @@
 
 from __future__ import annotations
 
-import importlib.util
 import json
-import sys
 from pathlib import Path
 
 import numpy as np
@@ -15,11 +13,7 @@ from eventlab.errors import ChannelMapError, SignalError
 from eventlab.faulttypes import FAULT_TYPES
 from eventlab.records.build import make_record
 
-_spec = importlib.util.spec_from_file_location(
-    "faultwaves_for_analysis", Path(__file__).parent / "signals" / "faultwaves.py")
-fw = importlib.util.module_from_spec(_spec)
-sys.modules[_spec.name] = fw
-_spec.loader.exec_module(fw)
+from .signals import faultwaves as fw
 
 NAMES = ("VA", "VB", "VC", "IA", "IB", "IC")
 
@@ -925,10 +919,10 @@ def test_a_recorder_with_line_to_line_voltages_locates_phase_faults(folder):
     # zero sequence.  Phase faults do not need it and locate as before (measured within
     # 0.02 % of the line); a ground fault does, so that end is left out and the other
     # record, with phase-to-ground VTs, locates it.
-    from comtrade_cases import line_to_line_record
-
     from eventlab.network.model import load_model
     from eventlab.records import read_record
+
+    from .records.comtrade_cases import line_to_line_record
 
     root = Path(__file__).parents[1]
     ev = root / "sample_events" / folder

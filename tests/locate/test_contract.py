@@ -11,7 +11,6 @@ import dataclasses
 
 import numpy as np
 import pytest
-from locate_models import two_source_model
 
 from eventlab.locate.model_fit import fit_fault
 from eventlab.locate.model_link import (
@@ -23,6 +22,8 @@ from eventlab.locate.model_link import (
 from eventlab.locate.single_ended import eriksson, modified_takagi, reactance, takagi
 from eventlab.locate.two_ended import two_ended_synchronised, two_ended_unsynchronised
 from eventlab.network.faults import FaultSpec, solve_fault
+
+from .locate_models import two_source_model
 
 
 def _reactance(m, a, b, line):

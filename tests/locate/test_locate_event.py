@@ -7,12 +7,13 @@ import json
 from datetime import datetime
 
 import pytest
-from locate_models import two_source_model
 
 from eventlab.errors import ModelError
 from eventlab.locate import CAUTION, LocateOptions, locate_event
 from eventlab.locate.model_link import phasors_from_solution
 from eventlab.network.faults import FaultSpec, solve_fault
+
+from .locate_models import two_source_model
 
 T0 = datetime(2025, 3, 14, 2, 17, 5, 120000)
 

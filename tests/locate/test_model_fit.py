@@ -7,13 +7,14 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-from locate_models import two_source_model
 
 from eventlab.errors import ModelError
 from eventlab.locate.model_fit import FitOptions, computed_phasors, fit_fault
 from eventlab.locate.model_link import phasors_from_solution
 from eventlab.network.faults import FaultSpec, solve_fault
 from eventlab.network.model import load_model, with_source
+
+from .locate_models import two_source_model
 
 ROOT = Path(__file__).resolve().parents[2]
 

@@ -14,7 +14,6 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-from locate_models import radial_model
 
 from eventlab.analysis import analyze
 from eventlab.errors import SignalError
@@ -27,6 +26,8 @@ from eventlab.locate.single_ended import reactance
 from eventlab.network.faults import FaultSpec, solve_fault
 from eventlab.network.model import load_model, with_source
 from eventlab.network.simulate import SimulationSpec, simulate
+
+from .locate_models import radial_model
 
 LENGTH_KM = 180.0
 NORTHMARCH = Path(__file__).resolve().parents[2] / "models" / "northmarch_230kv.toml"

@@ -142,9 +142,10 @@ def test_parallel_circuit_residual_channel_compensates_mutual_coupling():
     # residual current (role IP) in the same record: the single-ended methods add
     # Z0m(d) I0,par to the loop's drop.  Truth: the simulator's fault position.
     import numpy as np
-    from test_single_ended import _coupled_pair
 
     from eventlab.records.build import make_record
+
+    from .test_single_ended import _coupled_pair
 
     model = _coupled_pair(homogeneous=False)
     spec = SimulationSpec(line="L1", fraction=0.8, type="BG", r_fault_ohm=0.0,

@@ -7,7 +7,6 @@ tests/network; here its phasors are the input with a known answer.
 from __future__ import annotations
 
 import pytest
-from locate_models import two_source_model
 
 from eventlab.faulttypes import FAULT_TYPES
 from eventlab.locate.model_link import (
@@ -18,6 +17,8 @@ from eventlab.locate.model_link import (
 )
 from eventlab.locate.single_ended import eriksson, modified_takagi, reactance, takagi
 from eventlab.network.faults import FaultSpec, solve_fault
+
+from .locate_models import two_source_model
 
 LENGTH_KM = 100.0
 TOL_KM = 1e-6 * LENGTH_KM

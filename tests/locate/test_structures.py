@@ -3,10 +3,11 @@
 from __future__ import annotations
 
 import pytest
-from locate_models import two_source_model
 
 from eventlab.locate.model_link import line_from
 from eventlab.locate.structures import locate_structures
+
+from .locate_models import two_source_model
 
 CSV = "structure,distance_km\nT0,0.0\nT1,10.0\nT2,20.5\nT3,31.0\nT4,45.0\nT5,60.0\nT6,100.0\n"
 

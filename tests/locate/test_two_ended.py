@@ -6,7 +6,6 @@ from datetime import datetime, timedelta
 
 import numpy as np
 import pytest
-from locate_models import two_source_model
 
 from eventlab.errors import SignalError
 from eventlab.faulttypes import FAULT_TYPES
@@ -18,6 +17,8 @@ from eventlab.locate.two_ended import (
     two_ended_unsynchronised,
 )
 from eventlab.network.faults import FaultSpec, solve_fault
+
+from .locate_models import two_source_model
 
 T0 = datetime(2025, 3, 14, 2, 17, 5, 120000)
 

@@ -7,12 +7,13 @@ the fault, 3 I0 = IA + IB + IC, and the faulted line's current balance.
 import numpy as np
 from hypothesis import given
 from hypothesis import strategies as st
-from test_phase_domain import DATA  # tests/network is on pytest's pythonpath (pyproject.toml)
 
 from eventlab.faulttypes import FAULT_TYPES, faulted_phases
 from eventlab.network.faults import FaultSpec, solve_fault
 from eventlab.network.model import model_from_dict
 from eventlab.symmetrical import abc_to_012
+
+from .test_phase_domain import DATA  # tests/network is on pytest's pythonpath (pyproject.toml)
 
 MODEL = model_from_dict(DATA, source_name="invariants")
 

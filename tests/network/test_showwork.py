@@ -3,11 +3,12 @@
 import re
 
 import pytest
-from test_phase_domain import DATA  # tests/network is on pytest's pythonpath (pyproject.toml)
 
 from eventlab.network.faults import FaultSpec, solve_fault
 from eventlab.network.model import model_from_dict
 from eventlab.network.showwork import show_work
+
+from .test_phase_domain import DATA  # tests/network is on pytest's pythonpath (pyproject.toml)
 
 
 @pytest.mark.parametrize("spec", [FaultSpec("LA", 0.3, "CG", 1.0),

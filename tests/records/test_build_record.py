@@ -6,9 +6,10 @@ from datetime import datetime
 
 import numpy as np
 import pytest
-from comtrade_cases import load_reference
 
 from eventlab.records import RateSegment, make_record, read_record, select, write_record
+
+from .comtrade_cases import load_reference
 
 
 def test_make_record_fields_and_immutability():

@@ -15,10 +15,11 @@ from datetime import datetime
 
 import numpy as np
 import pytest
-from comtrade_cases import assert_matches_reference, load_reference, write_case
 
 from eventlab.errors import RecordFormatError
 from eventlab.records import read_record
+
+from .comtrade_cases import assert_matches_reference, load_reference, write_case
 
 # clause 6.2 station_name,rec_dev_id,rev_year; 6.3 TT,##A,##D;
 # 6.4 An,ch_id,ph,ccbm,uu,a,b,skew,min,max,primary,secondary,PS;

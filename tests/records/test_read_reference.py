@@ -8,9 +8,10 @@ from datetime import datetime
 
 import numpy as np
 import pytest
-from comtrade_cases import assert_matches_reference, load_reference
 
 from eventlab.records import RateSegment, make_record, read_record, write_record
+
+from .comtrade_cases import assert_matches_reference, load_reference
 
 CASES = [(1999, "ASCII", False), (1999, "BINARY", False), (2013, "ASCII", False),
          (2013, "BINARY", False), (2013, "BINARY32", False), (2013, "FLOAT32", False),

@@ -10,7 +10,6 @@ import struct
 
 import numpy as np
 import pytest
-from comtrade_cases import write_case
 from hypothesis import given
 from hypothesis import strategies as st
 
@@ -18,6 +17,8 @@ from eventlab.errors import RecordFormatError
 from eventlab.records import read_record
 from eventlab.records.cfg import decode_text, parse_cfg
 from eventlab.records.reader import record_from_bytes
+
+from .comtrade_cases import write_case
 
 GOOD_CFG = """VELLMOOR,DFR-7,2013
 3,2A,1D

@@ -13,11 +13,12 @@ from datetime import datetime
 from pathlib import Path
 
 import numpy as np
-from comtrade_cases import assert_matches_reference, load_reference
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from eventlab.records import make_record, read_record, write_record
+
+from .comtrade_cases import assert_matches_reference, load_reference
 
 FORMATS = [(1999, "ASCII", False), (1999, "BINARY", False), (2013, "BINARY32", False),
            (2013, "FLOAT32", False), (2013, "ASCII", True), (2013, "BINARY", True)]

@@ -7,11 +7,12 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-from comtrade_cases import line_to_line_record
 
 from eventlab.errors import ChannelMapError
 from eventlab.records import read_record
 from eventlab.records.roles import map_terminals
+
+from .comtrade_cases import line_to_line_record
 
 ROOT = Path(__file__).resolve().parents[2]
 

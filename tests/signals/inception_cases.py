@@ -5,9 +5,10 @@ from __future__ import annotations
 from types import SimpleNamespace
 
 import numpy as np
-from faultwaves import System, steady_phasors
 
 from eventlab.signals.timeline import build_timeline
+
+from .faultwaves import System, steady_phasors
 
 
 def inception_instants(system: System, t0: float = 0.05) -> dict[str, float]:

@@ -1,6 +1,6 @@
 """Print inception errors and classification over noise, angles, rates and fault resistance.
 
-Run: ``python tests/signals/measure_inception.py [--quick]``.  Not collected by
+Run from the repository root: ``python -m tests.signals.measure_inception [--quick]``.  Not collected by
 pytest (no ``test_`` prefix); the tests in ``test_robustness.py`` check a
 subset.  Noise: Gaussian, standard deviation = level x rated peak (voltage
 ``sqrt(2) V_ln``, current ``sqrt(2) 1000 A``), seeded.
@@ -10,15 +10,13 @@ from __future__ import annotations
 
 import sys
 import time
-from pathlib import Path
 
 import numpy as np
 
-sys.path.insert(0, str(Path(__file__).parent))
-from faultwaves import System, fault_event  # noqa: E402
-from inception_cases import inception_instants, timeline_of  # noqa: E402
+from eventlab.faulttypes import FAULT_TYPES
 
-from eventlab.faulttypes import FAULT_TYPES  # noqa: E402
+from .faultwaves import System, fault_event
+from .inception_cases import inception_instants, timeline_of
 
 
 def main(quick: bool = False, t0: float = 0.05):

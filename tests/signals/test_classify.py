@@ -4,12 +4,13 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
-from faultwaves import System, steady_phasors
 from hypothesis import given
 from hypothesis import strategies as st
 
 from eventlab.faulttypes import FAULT_TYPES, NO_FAULT
 from eventlab.signals.classify import classify_fault
+
+from .faultwaves import System, steady_phasors
 
 
 @pytest.mark.parametrize("ftype", FAULT_TYPES)

@@ -4,11 +4,12 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
-from sigtools import cosine_wave, reference_phasor_at_centre, tve
 
 from eventlab.errors import SignalError
 from eventlab.signals.frequency import estimate_frequency, tracked_phasors
 from eventlab.signals.phasors import dft_phasors
+
+from .sigtools import cosine_wave, reference_phasor_at_centre, tve
 
 # IEEE C37.118.1-2011 Table 3: TVE limit 1 % (clause and table from memory)
 TVE_LIMIT = 0.01

@@ -6,7 +6,6 @@ import numpy as np
 import pytest
 from hypothesis import given
 from hypothesis import strategies as st
-from sigtools import cosine_wave, reference_phasor_at_centre, tve
 
 from eventlab.errors import SignalError
 from eventlab.signals.phasors import (
@@ -20,6 +19,8 @@ from eventlab.signals.phasors import (
     window_phasor_decay_ls,
     window_phasor_fitted_decay,
 )
+
+from .sigtools import cosine_wave, reference_phasor_at_centre, tve
 
 # IEEE C37.118.1-2011 clause 5.3 (steady-state compliance), Table 3: TVE limit 1 %
 # (clause and table numbers from memory)

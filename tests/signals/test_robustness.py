@@ -13,12 +13,13 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
-from faultwaves import System, fault_event, steady_phasors
-from inception_cases import inception_instants, timeline_of
 
 from eventlab.faulttypes import FAULT_TYPES, NO_FAULT
 from eventlab.signals.classify import classify_fault
 from eventlab.signals.timeline import build_timeline, refine_onset, superimposed
+
+from .faultwaves import System, fault_event, steady_phasors
+from .inception_cases import inception_instants, timeline_of
 
 
 def test_inception_angles_are_voltage_zero_and_peak():

@@ -6,10 +6,11 @@ from types import SimpleNamespace
 
 import numpy as np
 import pytest
-from faultwaves import Event, Scenario, System, fault_event, make_event
 
 from eventlab.faulttypes import FAULT_TYPES, NO_FAULT, faulted_phases
 from eventlab.signals.timeline import build_timeline, superimposed
+
+from .faultwaves import Event, Scenario, System, fault_event, make_event
 
 
 def _timeline(e, **kw):

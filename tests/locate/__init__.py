@@ -1,0 +1,1 @@
+"""eventlab tests (a package, so that the shared helpers import the same way in every pytest import mode)."""
