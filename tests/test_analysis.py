@@ -13,6 +13,7 @@ from eventlab.errors import ChannelMapError, SignalError
 from eventlab.faulttypes import FAULT_TYPES
 from eventlab.records.build import make_record
 
+from .records.comtrade_cases import record_between
 from .signals import faultwaves as fw
 
 NAMES = ("VA", "VB", "VC", "IA", "IB", "IC")
@@ -814,19 +815,6 @@ def test_records_in_other_time_codes_are_compared_in_utc():
     assert b.location.sync.offset_s == pytest.approx(3600.0, abs=1e-3)
 
 
-def _ending_at(rec, t_end_s):
-    """The record cut after ``t_end_s`` (record time) [s]."""
-    import dataclasses
-
-    from eventlab.records.model import RateSegment
-
-    k = int(np.searchsorted(rec.time, t_end_s))
-    return dataclasses.replace(
-        rec, time=rec.time[:k], rates=(RateSegment(rec.rates[0].samp_hz, k),),
-        analog=tuple(dataclasses.replace(c, values=c.values[:k]) for c in rec.analog),
-        status=tuple(dataclasses.replace(c, values=c.values[:k]) for c in rec.status))
-
-
 def test_an_end_with_less_than_a_cycle_of_the_fault_is_not_located_from():
     # A record that ends 0.8 cycles after inception: no one-cycle phasor of the fault
     # exists.  Located from it (before), simulated A-G, B-C and three-phase faults read
@@ -834,7 +822,7 @@ def test_an_end_with_less_than_a_cycle_of_the_fault_is_not_located_from():
     # left out and says why, and with the other record the location stands.
     recs, truth, model = _sample_pair()
     t_end = truth["inception_s"] + 0.8 / 60.0
-    short = _ending_at(recs[1], t_end)
+    short = record_between(recs[1], None, t_end)
     alone = analyze([short], model=model)
     assert alone.location is None
     assert any("less than a cycle of the fault" in w for w in alone.warnings)
@@ -843,7 +831,7 @@ def test_an_end_with_less_than_a_cycle_of_the_fault_is_not_located_from():
     length = model.line(truth["line"]).length_km
     assert abs(both.location.distance_km - truth["distance_km"]) <= 0.005 * length
     # a cycle and a half of the fault is enough
-    longer = analyze([_ending_at(recs[1], truth["inception_s"] + 1.5 / 60.0)], model=model)
+    longer = analyze([record_between(recs[1], None, truth["inception_s"] + 1.5 / 60.0)], model=model)
     want = truth["distance_from_km"]["CARDON_REACH-VM-CR1"]
     assert abs(longer.location.distance_km - want) <= 0.01 * length
 
@@ -858,22 +846,6 @@ def test_a_recorder_with_two_phase_cts_and_the_residual_still_locates():
     assert a.fault_type == truth["type"]
     length = model.line(truth["line"]).length_km
     assert abs(a.location.distance_km - truth["distance_km"]) <= 0.005 * length
-
-
-def _starting_at(rec, t0_s):
-    """The record from record time ``t0_s`` on (its start time moved with it)."""
-    import dataclasses
-    from datetime import timedelta
-
-    from eventlab.records.model import RateSegment
-
-    k = int(np.searchsorted(rec.time, t0_s))
-    return dataclasses.replace(
-        rec, time=rec.time[k:] - rec.time[k], rates=(RateSegment(rec.rates[0].samp_hz,
-                                                                 rec.time.size - k),),
-        start=rec.start + timedelta(seconds=float(rec.time[k])),
-        analog=tuple(dataclasses.replace(c, values=c.values[k:]) for c in rec.analog),
-        status=tuple(dataclasses.replace(c, values=c.values[k:]) for c in rec.status))
 
 
 def test_a_record_that_begins_with_the_line_dead_says_so():
@@ -893,7 +865,7 @@ def test_a_record_that_begins_with_the_line_dead_says_so():
     model = load_model(root / "models" / "northmarch_230kv.toml")
     truth = json.loads((ev / "truth.json").read_text())
     t0 = 0.5 * (truth["clear_s"] + truth["reclose_s"])          # inside the dead time
-    recs = [_starting_at(read_record(ev / f"{s}.cfg"), t0) for s in ("VELLMOOR",
+    recs = [record_between(read_record(ev / f"{s}.cfg"), t0) for s in ("VELLMOOR",
                                                                      "CARDON_REACH")]
     a = analyze(recs, model=model)
     for t in a.terminals:

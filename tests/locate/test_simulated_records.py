@@ -19,6 +19,8 @@ from eventlab.network.model import load_model
 from eventlab.network.simulate import SimulationSpec, simulate
 from eventlab.records import read_record
 
+from ..records.comtrade_cases import record_between
+
 ROOT = Path(__file__).resolve().parents[2]
 
 
@@ -385,22 +387,7 @@ def test_switch_onto_fault_from_the_leader_is_located(code, fraction, rf):
     # (within 0.01 % of the line in these cases, measured).  A three-phase fault's
     # record cannot show the far end open: it is located only with the far record,
     # whose CT carried no current.
-    import dataclasses
-    from datetime import timedelta
-
-    import numpy as np
-
     from eventlab.analysis import analyze
-    from eventlab.records.model import RateSegment
-
-    def starting_at(rec, t0):
-        k = int(np.searchsorted(rec.time, t0))
-        return dataclasses.replace(
-            rec, time=rec.time[k:] - rec.time[k],
-            start=rec.start + timedelta(seconds=float(rec.time[k])),
-            rates=(RateSegment(rec.rates[0].samp_hz, rec.time.size - k),),
-            analog=tuple(dataclasses.replace(c, values=c.values[k:]) for c in rec.analog),
-            status=tuple(dataclasses.replace(c, values=c.values[k:]) for c in rec.status))
 
     model = load_model(ROOT / "models" / "northmarch_230kv.toml")
     ids = [t.id for t in model.terminals_of_line("VM-CR1")]
@@ -410,7 +397,7 @@ def test_switch_onto_fault_from_the_leader_is_located(code, fraction, rf):
         samples_per_cycle=64, noise=0.001, seed=2, anti_alias_hz=0.3 * 64 * 60.0))
     assert len(sim.truth.pole_open_s[ids[0]]) == 2 and len(sim.truth.pole_open_s[ids[1]]) == 1
     t0 = 0.5 * (sim.truth.clear_s + sim.truth.reclose_s)
-    recs = [starting_at(sim.records[t], t0) for t in ids]
+    recs = [record_between(sim.records[t], t0) for t in ids]
     length = model.line("VM-CR1").length_km
     both = analyze(recs, model=model)
     assert both.fault_type == code
@@ -424,6 +411,16 @@ def test_switch_onto_fault_from_the_leader_is_located(code, fraction, rf):
         assert any("three-phase fault" in w for w in alone.warnings)
     else:
         assert abs(alone.location.distance_km - sim.truth.distance_km) <= 0.002 * length
+
+
+def _simulated(model, code, fraction, rf, spc):
+    """``(model, VM-CR1's terminal ids, simulation)`` of a fault cleared 80 ms after it."""
+    ids = [t.id for t in model.terminals_of_line("VM-CR1")]
+    sim = simulate(model, SimulationSpec(
+        line="VM-CR1", fraction=fraction, type=code, r_fault_ohm=rf, inception_s=0.1,
+        clear_after_s=0.08, duration_s=0.25, samples_per_cycle=spc, noise=0.001, seed=3,
+        anti_alias_hz=0.3 * spc * 60.0))
+    return model, ids, sim
 
 
 def _scaled_currents(rec, k):
@@ -446,11 +443,7 @@ def test_a_ct_ratio_error_at_light_load_widens_the_interval():
 
     model = load_model(ROOT / "models" / "northmarch_230kv.toml")
     truth = with_source(model, "CARDON_REACH", angle_deg=-0.5, emf_pu=1.02)
-    ids = [t.id for t in model.terminals_of_line("VM-CR1")]
-    sim = simulate(truth, SimulationSpec(
-        line="VM-CR1", fraction=0.55, type="BC", r_fault_ohm=2.0, inception_s=0.1,
-        clear_after_s=0.08, duration_s=0.25, samples_per_cycle=32, noise=0.001, seed=3,
-        anti_alias_hz=0.3 * 32 * 60.0))
+    _, ids, sim = _simulated(truth, "BC", 0.55, 2.0, 32)
     recs = [sim.records[ids[0]], _scaled_currents(sim.records[ids[1]], 1.6)]
     a = analyze(recs, model=model)
     assert any("the two records and the model do not agree" in w for w in a.warnings)
@@ -463,25 +456,11 @@ def test_the_first_record_without_a_fault_still_gives_the_distances():
     # VELLMOOR's record ends before the fault (it shows none); CARDON REACH's locates,
     # and the distances are given from VELLMOOR's terminal, the first record's, as the
     # JSON contract says (before: from CARDON REACH's, without a word)
-    import dataclasses
-
-    import numpy as np
-
     from eventlab.analysis import analyze
-    from eventlab.records.model import RateSegment
 
-    model = load_model(ROOT / "models" / "northmarch_230kv.toml")
-    ids = [t.id for t in model.terminals_of_line("VM-CR1")]
-    sim = simulate(model, SimulationSpec(
-        line="VM-CR1", fraction=0.3, type="CG", r_fault_ohm=4.0, inception_s=0.1,
-        clear_after_s=0.08, duration_s=0.25, samples_per_cycle=32, noise=0.001, seed=3,
-        anti_alias_hz=0.3 * 32 * 60.0))
-    vm = sim.records[ids[0]]
-    k = int(np.searchsorted(vm.time, 0.09))
-    early = dataclasses.replace(
-        vm, time=vm.time[:k], rates=(RateSegment(vm.rates[0].samp_hz, k),),
-        analog=tuple(dataclasses.replace(c, values=c.values[:k]) for c in vm.analog),
-        status=tuple(dataclasses.replace(c, values=c.values[:k]) for c in vm.status))
+    model, ids, sim = _simulated(load_model(ROOT / "models" / "northmarch_230kv.toml"),
+                                 "CG", 0.3, 4.0, 32)
+    early = record_between(sim.records[ids[0]], None, 0.09)
     a = analyze([early, sim.records[ids[1]]], model=model)
     assert a.location.reference_terminal == ids[0]
     assert abs(a.location.distance_km - sim.truth.distance_from_km[ids[0]]) <= 0.5
@@ -495,12 +474,8 @@ def test_a_reversed_phase_ct_is_found_beside_a_close_in_fault():
 
     from eventlab.analysis import analyze
 
-    model = load_model(ROOT / "models" / "northmarch_230kv.toml")
-    ids = [t.id for t in model.terminals_of_line("VM-CR1")]
-    sim = simulate(model, SimulationSpec(
-        line="VM-CR1", fraction=0.057, type="ABC", r_fault_ohm=2.9, inception_s=0.1,
-        clear_after_s=0.08, duration_s=0.25, samples_per_cycle=64, noise=0.001, seed=3,
-        anti_alias_hz=0.3 * 64 * 60.0))
+    model, ids, sim = _simulated(load_model(ROOT / "models" / "northmarch_230kv.toml"),
+                                 "ABC", 0.057, 2.9, 64)
     vm = sim.records[ids[0]]
     bad = dataclasses.replace(vm, analog=tuple(
         dataclasses.replace(c, values=-c.values) if c.name == "IA" else c for c in vm.analog))

@@ -84,3 +84,26 @@ def line_to_line_record(rec, keep=("VAB", "VBC", "VCA")):
         else:
             out.append(c)
     return dataclasses.replace(rec, analog=tuple(out))
+
+
+def record_between(rec, t_start_s: float | None = None, t_end_s: float | None = None):
+    """``rec`` cut to record times ``[t_start_s, t_end_s)`` (its start time moved along).
+
+    A recorder triggered later (a record that begins in the reclose dead time) or one
+    that stopped early.
+    """
+    import dataclasses
+    from datetime import timedelta
+
+    from eventlab.records.model import RateSegment
+
+    k0 = 0 if t_start_s is None else int(np.searchsorted(rec.time, t_start_s))
+    k1 = rec.time.size if t_end_s is None else int(np.searchsorted(rec.time, t_end_s))
+    start = rec.start
+    if k0 and start is not None:
+        start = start + timedelta(seconds=float(rec.time[k0]))
+    return dataclasses.replace(
+        rec, time=rec.time[k0:k1] - rec.time[k0], start=start,
+        rates=(RateSegment(rec.rates[0].samp_hz, k1 - k0),),
+        analog=tuple(dataclasses.replace(c, values=c.values[k0:k1]) for c in rec.analog),
+        status=tuple(dataclasses.replace(c, values=c.values[k0:k1]) for c in rec.status))
