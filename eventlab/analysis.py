@@ -641,7 +641,8 @@ CURRENT_ACB_FLAG = "currents run A-C-B"
 V0_UNKNOWN_FLAG = "V0 not measured"
 #: words of the flag for a record that begins with the line de-energised
 DEAD_START_FLAG = "the record begins with the line de-energised"
-#: currents under this fraction of the record's largest are none (a dead line)
+#: currents under this fraction of the record's largest (or of the CT rating) are none:
+#: a dead line, an open end (common practice, no source)
 DEAD_CURRENT_RATIO = 0.02
 
 

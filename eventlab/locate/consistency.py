@@ -27,17 +27,21 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from eventlab.errors import ModelError
 from eventlab.symmetrical import abc_to_012
 
 from .inputs import TerminalPhasors
 from .line import LineData
+from .model_link import external_two_port, line_from, pair_ends
 from .two_ended import to_fault
 
 #: an angle of ``-dV/dI`` in this range [deg] reads a fault behind the bus: with the
-#: CT polarity reversed the source impedance's 60-90 deg become -120..-90 deg
+#: CT polarity reversed the source impedance's 60-90 deg become -120..-90 deg (the
+#: directional element's principle; the margins common practice, no source)
 REVERSE_ANGLE_RANGE = (-175.0, -5.0)
 #: the sequence current judged must be at least this fraction of the end's largest
-#: fault-window phase current (a weak or absent infeed leaves only charging current)
+#: fault-window phase current (a weak or absent infeed leaves only charging current;
+#: common practice, no source)
 DIRECTION_MIN_CURRENT = 0.05
 #: limits of the pre-fault agreement (common practice, no source): VTs of class 3P
 #: and better are within 3 %, protective CTs within a few per cent at load, the
@@ -46,7 +50,7 @@ VOLTAGE_RATIO_LIMIT = 0.05
 CURRENT_RATIO_LIMIT = 0.10
 PF_ANGLE_LIMIT_DEG = 10.0
 #: the current agreement is judged only where the pre-fault current is at least this
-#: fraction of the end's largest fault-window phase current
+#: fraction of the end's largest fault-window phase current (common practice, no source)
 PREFAULT_MIN_CURRENT = 0.02
 
 
@@ -185,8 +189,6 @@ def suspect_end(agreement: PrefaultAgreement, seen: tuple[complex | None, comple
 def pair_agreement(model, ends: tuple[TerminalPhasors, TerminalPhasors],
                    line: str | None = None):
     """``(pairing, PrefaultAgreement or None)`` of two ends on the model's line."""
-    from .model_link import line_from, pair_ends
-
     pairing = pair_ends(model, ends, line)
     local, remote = pairing.ends
     return pairing, prefault_agreement(local, remote,
@@ -230,10 +232,6 @@ def check_pair(model, ends: tuple[TerminalPhasors, TerminalPhasors],
     end can be told.  Raises what :func:`~eventlab.locate.model_link.pair_ends`
     raises.
     """
-    from eventlab.errors import ModelError
-
-    from .model_link import external_two_port
-
     pairing, agreement = pair_agreement(model, ends, line)
     local, remote = pairing.ends
     t_local = pairing.terminals[0]

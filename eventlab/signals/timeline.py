@@ -38,7 +38,8 @@ ONSET_SIGMAS = 5.0       # ... plus this many baseline standard deviations
 OPEN_REL = 0.03          # pole open: |i| below this fraction of the phase's fault peak
 NEG_ZERO_RATIO = 0.10    # |I2| or |I0| over max(|I1|, scale): unbalanced fault
 #: a fault interval whose fault-window currents are all under this fraction of the
-#: record's largest current phasor is no fault (a dead line's voltages changing)
+#: record's largest current phasor is no fault (a dead line's voltages changing; common
+#: practice, no source: a shunt fault on a live line drives current)
 DEAD_LINE_CURRENT = 0.02
 #: the same for the change of I2 or I0 from the record's first cycle (a standing
 #: unbalance does not count): a 450-ohm A-G fault at 20 % of the 230 kV demo line
