@@ -56,7 +56,6 @@ from eventlab.signals.timeline import (
     fed_from_one_end,
     saturating_phases,
 )
-from eventlab.signals.windows import SHORT_FAULT
 from eventlab.symmetrical import abc_to_012
 from eventlab.units import polar_deg
 
@@ -150,6 +149,10 @@ class TerminalAnalysis:
     rms_fault: Mapping[str, float] = field(default_factory=dict)     # true RMS, fault window
     rms_prefault: Mapping[str, float] = field(default_factory=dict)
     flags: tuple[str, ...] = ()
+    # what the location step must know of the measurements (their words are in flags)
+    currents_acb: bool = False      # pre-fault currents run A-C-B under A-B-C voltages
+    dead_start: bool = False        # the record begins with the line de-energised
+    v0_unknown: bool = False        # voltages derived from line-to-line channels
 
     @property
     def fault_type(self) -> str:
@@ -626,7 +629,8 @@ def _terminal(record: Record, k_rec: int, term: TerminalChannels, n: int, fs: fl
         classification=cls, prefault=MappingProxyType(pre), fault=MappingProxyType(flt),
         v012_prefault=v012p, i012_prefault=i012p, v012_fault=v012f, i012_fault=i012f,
         peak_a=peak, rms_fault=MappingProxyType(rms_flt), rms_prefault=MappingProxyType(rms_pre),
-        flags=tuple(flags))
+        flags=tuple(flags), currents_acb=any(CURRENT_ACB_FLAG in c for c in checks),
+        dead_start=dead_start is not None, v0_unknown="VA" in term.derived)
     return ta, f_est, tracked
 
 
@@ -1000,6 +1004,24 @@ def on_one_clock(records: Sequence[Record], warnings: list[str] | None = None) -
             for r, o in zip(records, offsets, strict=True)]
 
 
+def _left_out(ta: TerminalAnalysis, fault_type: str, energised: bool) -> str | None:
+    """Why a terminal's measurements keep it out of the location (known before its
+    phasors are judged), or None."""
+    if ta.currents_acb:
+        return ("its pre-fault currents run A-C-B under A-B-C voltages (CT phases swapped "
+                "or one reversed); a location needs the phase currents as the model has them")
+    if ta.dead_start and not energised:
+        return ("it begins with the line de-energised and the fault is not fed from this "
+                "end alone (both ends closed onto it, or a three-phase fault, which does not "
+                "show it): eventlab's methods and the model fit start from the line in "
+                "service before the fault; the record of the first trip, or the other "
+                "end's, locates it")
+    if ta.v0_unknown and involves_ground(fault_type):
+        return ("its voltages are line-to-line only (V0 is not measured), and a ground "
+                "fault's location needs the zero-sequence voltage")
+    return None
+
+
 def _off_frequency(f_hz: float | None, lf_hz: float) -> str | None:
     """Why a record's measured frequency keeps it out of the location, or None."""
     if f_hz is None or abs(f_hz - lf_hz) <= FREQ_OFF_REL * lf_hz:
@@ -1295,32 +1317,18 @@ def _locate_ends(records: Sequence[Record], terms: Sequence[TerminalAnalysis], m
             kvs.append(None)
         # a line energised onto the fault from this end, the other end open (its sound
         # phases carry the open line's charging only): located as the stage fed from
-        # this end alone
-        dead_start = any(DEAD_START_FLAG in f for f in ta.flags)
-        # the other end's record says whether it closed too: it carries the fault's
-        # current (an interval of its own) or, beginning dead as well, none at all
+        # this end alone.  The other end's record says whether it closed too: it
+        # carries the fault's current (an interval of its own) or, beginning dead as
+        # well, none at all
         others = [t for t in terms if t.record != k]
         other_closed = any(t.timeline.intervals for t in others)
-        other_open = bool(others) and not other_closed and all(
-            any(DEAD_START_FLAG in f for f in t.flags) for t in others)
-        energised = dead_start and not other_closed and (
+        other_open = bool(others) and not other_closed and all(t.dead_start for t in others)
+        energised = ta.dead_start and not other_closed and (
             other_open or fed_from_one_end(iv.i_fault, iv.v_fault, iv.type) is not None)
-        known.append((off_freq or {}).get(k) or (
-            "its pre-fault currents run A-C-B under A-B-C voltages (CT phases swapped or "
-            "one reversed); a location needs the phase currents as the model has them"
-            if any(CURRENT_ACB_FLAG in f for f in ta.flags) else None) or (
-            "it begins with the line de-energised and the fault is not fed from this end "
-            "alone (both ends closed onto it, or a three-phase fault, which does not show "
-            "it): eventlab's methods and the model fit start from the line in service "
-            "before the fault; the record of the first trip, or the other end's, locates it"
-            if dead_start and not energised else None) or (
-            "its voltages are line-to-line only (V0 is not measured), and a ground "
-            "fault's location needs the zero-sequence voltage"
-            if involves_ground(iv.type) and any(V0_UNKNOWN_FLAG in f for f in ta.flags)
-            else None))
+        known.append((off_freq or {}).get(k) or _left_out(ta, iv.type, energised))
         shorts.append(f"it holds less than a cycle of the fault ({iv.fault.note}): no "
-                      f"phasor of the fault can be measured from it"
-                      if iv.fault.flagged and iv.fault.note.startswith(SHORT_FAULT) else None)
+                      f"phasor of the fault can be measured from it" if iv.fault.short
+                      else None)
         sources.append((rec, ta))
         ip_name = ta.channels.get("IP")
         i_par = ta.fault.get(ip_name) if ip_name is not None else None

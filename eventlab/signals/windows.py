@@ -38,14 +38,18 @@ class Window:
     end_s: float
     flagged: bool = False
     note: str = ""
+    # less than a cycle of the fault: no one-cycle phasor of it (SHORT_FAULT)
+    short: bool = False
 
     def to_dict(self) -> dict:
         return {"start_s": self.start_s, "end_s": self.end_s, "start_index": self.start_index,
                 "end_index": self.end_index, "flagged": self.flagged, "note": self.note}
 
 
-def _win(time_s, start: int, end: int, flagged: bool = False, note: str = "") -> Window:
-    return Window(int(start), int(end), float(time_s[start]), float(time_s[end]), flagged, note)
+def _win(time_s, start: int, end: int, flagged: bool = False, note: str = "",
+         short: bool = False) -> Window:
+    return Window(int(start), int(end), float(time_s[start]), float(time_s[end]), flagged,
+                  note, short)
 
 
 def prefault_window(time_s, inception_index: int, samples_per_cycle: int) -> Window | None:
@@ -113,7 +117,7 @@ def fault_window(time_s, inception_index: int, stop_index: int, samples_per_cycl
     end = min(start + n - 1, n_t - 1)
     return _win(time_s, start, end, True,
                 f"{SHORT_FAULT} (under one cycle): the window reaches past the pole opening "
-                f"(or the record's end)")
+                f"(or the record's end)", short=True)
 
 
 def steady_window(time_s, window: Window, stop_index: int, samples_per_cycle: int,
